@@ -1,0 +1,19 @@
+// Bundles the three entry points with esbuild (CommonJS for Node 20 and VS Code's loader).
+import { build } from "esbuild";
+import { mkdirSync } from "node:fs";
+
+mkdirSync("dist", { recursive: true });
+const common = { bundle: true, platform: "node", format: "cjs", target: "node20", sourcemap: true, logLevel: "warning" };
+const entries = [
+  { entryPoints: ["client/src/extension.ts"], outfile: "dist/extension.js", external: ["vscode"] },
+  { entryPoints: ["server/src/lsp/main.ts"], outfile: "dist/server.js" },
+  { entryPoints: ["server/src/cli/main.ts"], outfile: "dist/cli.js" },
+];
+const optional = [
+  { entryPoints: ["client/media/viewer.ts"], outfile: "dist/viewer.js", platform: "browser", format: "iife", target: "es2022" },
+];
+import { existsSync } from "node:fs";
+await Promise.all([
+  ...entries.filter((e) => existsSync(e.entryPoints[0])).map((e) => build({ ...common, ...e })),
+  ...optional.filter((e) => existsSync(e.entryPoints[0])).map((e) => build({ ...common, ...e })),
+]);
