@@ -1,0 +1,138 @@
+/**
+ * The command line: `propriety check [--json | --sarif] FILE|DIR…` (and later sub-commands).
+ * The only layer besides the LSP adapter that touches files and the process; everything else is the
+ * service. `main(argv, io)` runs in-process for tests and returns the exit code (0 ok, 1 errors found,
+ * 2 usage or I/O error).
+ */
+import * as fs from "node:fs";
+import * as path from "node:path";
+import { parseArgs } from "node:util";
+import { analyseDocument, type DocumentAnalysis } from "../service/document.js";
+import { toJsonFile, toSarif, toTextLines } from "../service/check-report.js";
+
+export const VERSION = "0.1.0";
+
+export interface CliIo {
+  stdout(text: string): void;
+  stderr(text: string): void;
+  readFile(p: string): string;
+  writeFile(p: string, text: string): void;
+  isDirectory(p: string): boolean;
+  exists(p: string): boolean;
+  listDir(p: string): string[];
+}
+
+export const nodeIo: CliIo = {
+  stdout: (t) => process.stdout.write(t),
+  stderr: (t) => process.stderr.write(t),
+  readFile: (p) => fs.readFileSync(p, "utf8"),
+  writeFile: (p, t) => {
+    fs.mkdirSync(path.dirname(path.resolve(p)), { recursive: true });
+    fs.writeFileSync(p, t);
+  },
+  isDirectory: (p) => fs.statSync(p).isDirectory(),
+  exists: (p) => fs.existsSync(p),
+  listDir: (p) => fs.readdirSync(p),
+};
+
+const HELP = `propriety ${VERSION} — check classification losses written in the .loss notation
+
+Usage:
+  propriety check [--json | --sarif] FILE|DIR…   check properness, curvature and claims
+  propriety --help | --version
+
+check:
+  Directories are searched recursively for *.loss files.
+  Text output: path:line:col: severity code: message (1-based).
+  --json   one JSON object: files, diagnostics (0-based LSP ranges), per-loss figures
+  --sarif  a SARIF 2.1.0 log for code-scanning tools
+  Exit status: 0 no errors, 1 errors found, 2 usage or I/O error.
+`;
+
+export class UsageError extends Error {}
+
+export async function main(argv: string[], io: CliIo = nodeIo): Promise<number> {
+  try {
+    const [command, ...rest] = argv;
+    if (command === undefined || command === "--help" || command === "-h" || command === "help") {
+      io.stdout(HELP);
+      return command === undefined ? 2 : 0;
+    }
+    if (command === "--version" || command === "-v") {
+      io.stdout(VERSION + "\n");
+      return 0;
+    }
+    switch (command) {
+      case "check":
+        return runCheck(rest, io);
+      default:
+        throw new UsageError(`unknown command '${command}'`);
+    }
+  } catch (err) {
+    if (err instanceof UsageError || (err instanceof TypeError && "code" in err && String(err.code).startsWith("ERR_PARSE_ARGS"))) {
+      io.stderr(`propriety: ${err.message}\nRun 'propriety --help' for usage.\n`);
+      return 2;
+    }
+    io.stderr(`propriety: ${err instanceof Error ? err.message : String(err)}\n`);
+    return 2;
+  }
+}
+
+/** Expands the command-line paths: files as given, directories searched recursively for *.loss, sorted. */
+export function collectFiles(inputs: string[], io: CliIo): string[] {
+  const out: string[] = [];
+  const walk = (dir: string) => {
+    for (const name of io.listDir(dir).sort()) {
+      if (name === "node_modules" || name.startsWith(".")) continue;
+      const p = path.join(dir, name);
+      if (io.isDirectory(p)) walk(p);
+      else if (name.endsWith(".loss")) out.push(p);
+    }
+  };
+  for (const input of inputs) {
+    if (!io.exists(input)) throw new UsageError(`no such file or directory: ${input}`);
+    if (io.isDirectory(input)) walk(input);
+    else out.push(input);
+  }
+  return out;
+}
+
+function runCheck(args: string[], io: CliIo): number {
+  const { values, positionals } = parseArgs({
+    args,
+    options: { json: { type: "boolean" }, sarif: { type: "boolean" }, help: { type: "boolean", short: "h" } },
+    allowPositionals: true,
+  });
+  if (values.help) {
+    io.stdout(HELP);
+    return 0;
+  }
+  if (values.json && values.sarif) throw new UsageError("--json and --sarif cannot be combined");
+  if (positionals.length === 0) throw new UsageError("check needs at least one FILE or DIR");
+  const files = collectFiles(positionals, io);
+  if (files.length === 0) throw new UsageError(`no .loss files found in ${positionals.join(", ")}`);
+  const docs: { file: string; doc: DocumentAnalysis }[] = [];
+  for (const file of files) {
+    let text: string;
+    try {
+      text = io.readFile(file);
+    } catch (err) {
+      io.stderr(`propriety: cannot read ${file}: ${err instanceof Error ? err.message : String(err)}\n`);
+      return 2;
+    }
+    docs.push({ file, doc: analyseDocument(text) });
+  }
+  const hasErrors = docs.some(({ doc }) => doc.issues.some((i) => i.severity === "error"));
+  if (values.json) {
+    io.stdout(JSON.stringify({ files: docs.map(({ file, doc }) => toJsonFile(file, doc)) }, null, 2) + "\n");
+  } else if (values.sarif) {
+    io.stdout(JSON.stringify(toSarif(docs, VERSION), null, 2) + "\n");
+  } else {
+    for (const { file, doc } of docs) for (const line of toTextLines(file, doc)) io.stdout(line + "\n");
+    const counts = { error: 0, warning: 0 };
+    for (const { doc } of docs) for (const i of doc.issues) if (i.severity === "error" || i.severity === "warning") counts[i.severity]++;
+    const losses = docs.reduce((n, d) => n + d.doc.losses.length, 0);
+    io.stderr(`${files.length} file${files.length === 1 ? "" : "s"}, ${losses} loss${losses === 1 ? "" : "es"}: ${counts.error} error${counts.error === 1 ? "" : "s"}, ${counts.warning} warning${counts.warning === 1 ? "" : "s"}\n`);
+  }
+  return hasErrors ? 1 : 0;
+}

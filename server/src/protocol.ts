@@ -1,0 +1,87 @@
+/**
+ * Custom messages shared by the language server, the VS Code client and the curve viewer webview.
+ * Plain data only (JSON-serialisable); no imports from either side.
+ */
+
+/** A sampled curve; y is null where the function is undefined or infinite (drawn as a gap). */
+export interface SeriesData {
+  id: string;
+  label: string;
+  x: number[];
+  y: (number | null)[];
+}
+
+/** Everything the viewer or the report draws for one loss. */
+export interface LossCurves {
+  loss: string;
+  verdict: "strictly-proper" | "proper" | "improper" | "unknown";
+  summary: string;
+  params: { name: string; value: number; lo: number | null; hi: number | null }[];
+  threshold: number;
+  /** l1 and l0 on q. */
+  partials: SeriesData[];
+  /** Bayes risk H(η). */
+  bayes: SeriesData | null;
+  /** Weight function w(q). */
+  weight: SeriesData | null;
+  /** Conditional risk L(η, ·) for a few η, with the minimiser for each η. */
+  conditionalRisk: { eta: number; series: SeriesData; minimiser: number }[];
+  /** δ and δ** of f = −H. */
+  modulus: SeriesData[];
+  /** Decision-regret bound vs surrogate regret, one series per route. */
+  bounds: SeriesData[];
+  /** Link ψ(q) for composite and margin losses. */
+  link: SeriesData | null;
+  notes: string[];
+}
+
+export interface CurvesParams {
+  uri: string;
+  /** Losses to include (all when absent). */
+  losses?: string[];
+  /** Parameter overrides per loss (for the viewer's sliders). */
+  overrides?: Record<string, Record<string, number>>;
+  /** η values at which to sample the conditional risk. */
+  etas?: number[];
+}
+
+export interface CurvesResult {
+  uri: string;
+  version: number | null;
+  losses: LossCurves[];
+  /** Why a loss could not be drawn (errors in it, analysis failed…). */
+  skipped: { loss: string; reason: string }[];
+}
+
+/** LSP request: sampled curves of the losses in a document. */
+export const CURVES_REQUEST = "propriety/curves";
+
+export interface GenerateParams {
+  uri: string;
+  loss?: string;
+  target: "torch" | "jax" | "numpy" | "ts";
+  input?: "prob" | "score";
+  allowImproper?: boolean;
+}
+
+export interface GenerateResult {
+  ok: boolean;
+  code: string | null;
+  message: string | null;
+  /** Suggested file name for the output. */
+  fileName: string | null;
+}
+
+/** LSP request: generated implementation code for one loss or all losses of a document. */
+export const GENERATE_REQUEST = "propriety/generate";
+
+/** Messages between the extension host and the curve viewer webview. */
+export type ViewerToHost =
+  | { type: "ready" }
+  | { type: "setParam"; loss: string; name: string; value: number }
+  | { type: "setEta"; eta: number }
+  | { type: "selectLosses"; losses: string[] };
+
+export type HostToViewer =
+  | { type: "curves"; data: CurvesResult; eta: number }
+  | { type: "error"; message: string };

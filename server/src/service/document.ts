@@ -1,0 +1,127 @@
+/**
+ * `analyseDocument(text)`: the whole pipeline for one document — parse, resolve, compile each loss, run
+ * the engine, and turn every finding into an `Issue` with a source span. Never throws: a failing stage
+ * becomes an `internal-error` issue on the item it was working on.
+ */
+import { analyseFamily, type AnalyseOptions, type LossAnalysis } from "../analysis/analyse.js";
+import type { ClauseKey, Finding } from "../analysis/loss-model.js";
+import { makeIssue, type Issue, type Span } from "../issue.js";
+import { compileLoss, type CompiledLoss } from "../semantics/family.js";
+import { analyseSemantics, type ClauseName, type LossInfo, type SemanticModel } from "../semantics/model.js";
+import { parse, type ParseResult } from "../syntax/parse.js";
+
+export interface LossReport {
+  info: LossInfo;
+  compiled: CompiledLoss | null;
+  /** Null when the loss has errors that prevent analysis (the issues say which). */
+  analysis: LossAnalysis | null;
+}
+
+export interface DocumentAnalysis {
+  text: string;
+  parse: ParseResult;
+  model: SemanticModel;
+  losses: LossReport[];
+  /** All issues, in document order. */
+  issues: Issue[];
+}
+
+export interface DocumentOptions extends AnalyseOptions {
+  /** Skip the numeric engine (syntax and semantics only), e.g. for the fast first pass while typing. */
+  skipAnalysis?: boolean;
+  /** Analyse at most this many losses (huge files); the rest get an information issue. */
+  maxAnalysedLosses?: number;
+  /** Reuse analyses by a cache key (see `lossCacheKey`). */
+  cache?: Map<string, LossAnalysis>;
+}
+
+export function analyseDocument(text: string, options: DocumentOptions = {}): DocumentAnalysis {
+  const parsed = parse(text);
+  const issues: Issue[] = [...parsed.issues];
+  let model: SemanticModel;
+  try {
+    model = analyseSemantics(parsed.ast);
+  } catch (err) {
+    model = { ast: parsed.ast, issues: [], globals: new Map(), defs: new Map(), losses: [], references: [] };
+    issues.push(makeIssue("internal-error", `internal error in name resolution: ${String(err)}`, { start: 0, end: Math.min(1, text.length) }));
+  }
+  issues.push(...model.issues);
+  const losses: LossReport[] = [];
+  const limit = options.maxAnalysedLosses ?? Infinity;
+  for (const info of model.losses) {
+    const report: LossReport = { info, compiled: null, analysis: null };
+    losses.push(report);
+    try {
+      report.compiled = compileLoss(model, info);
+    } catch (err) {
+      issues.push(makeIssue("internal-error", `internal error while compiling \`${info.name}\`: ${String(err)}`, info.decl.name.span));
+      continue;
+    }
+    if (!report.compiled || options.skipAnalysis) continue;
+    if (losses.length > limit) {
+      if (losses.length === limit + 1) {
+        issues.push(makeIssue("analysis-unknown", `only the first ${limit} losses of this file are analysed`, info.decl.name.span, { severity: "information" }));
+      }
+      continue;
+    }
+    const key = options.cache ? lossCacheKey(text, model, info) : "";
+    try {
+      const cached = options.cache?.get(key);
+      report.analysis = cached ?? analyseFamily(report.compiled.family, options);
+      if (options.cache && !cached) options.cache.set(key, report.analysis);
+    } catch (err) {
+      issues.push(makeIssue("internal-error", `internal error while analysing \`${info.name}\`: ${String(err)}`, info.decl.name.span));
+      continue;
+    }
+    for (const f of report.analysis.findings) issues.push(findingToIssue(f, info, model));
+  }
+  issues.sort((a, b) => a.span.start - b.span.start || a.span.end - b.span.end);
+  return { text, parse: parsed, model, losses, issues };
+}
+
+/**
+ * A cache key for one loss: its own text plus the text of every global and helper it uses, so editing
+ * another loss (or moving this one) does not invalidate it.
+ */
+export function lossCacheKey(text: string, model: SemanticModel, info: LossInfo): string {
+  const parts = [text.slice(info.decl.span.start, info.decl.span.end)];
+  for (const g of info.usedGlobals) {
+    const d = model.globals.get(g)?.decl;
+    if (d) parts.push(text.slice(d.span.start, d.span.end));
+  }
+  for (const n of [...info.usedDefs].sort()) {
+    const d = model.defs.get(n)?.decl;
+    if (d) parts.push(text.slice(d.span.start, d.span.end));
+  }
+  return parts.join("\u0000");
+}
+
+/** The source span a finding's clause refers to. */
+export function clauseSpan(key: ClauseKey, info: LossInfo, model: SemanticModel): Span {
+  if (key === "loss") return info.decl.name.span;
+  if (key.startsWith("expect:")) {
+    const i = Number(key.slice(7));
+    return info.expects[i]?.clause.span ?? info.decl.name.span;
+  }
+  if (key.startsWith("param:")) {
+    const n = key.slice(6);
+    return info.localParams.get(n)?.decl.span ?? model.globals.get(n)?.decl.span ?? info.decl.name.span;
+  }
+  const clause = info.clauses.get(key as ClauseName);
+  if (clause) return clause.span;
+  // A derived clause (e.g. the link of a margin loss) falls back to the primary form's clause.
+  for (const c of ["l1", "bayes", "weight", "margin"] as ClauseName[]) {
+    const cl = info.clauses.get(c);
+    if (cl) return cl.span;
+  }
+  return info.decl.name.span;
+}
+
+export function findingToIssue(f: Finding, info: LossInfo, model: SemanticModel): Issue {
+  const extra: Parameters<typeof makeIssue>[3] = {};
+  if (f.severity) extra.severity = f.severity;
+  if (f.data) extra.data = { ...f.data, loss: info.name };
+  else extra.data = { loss: info.name };
+  if (f.related) extra.related = f.related.map((r) => ({ span: clauseSpan(r.clause, info, model), message: r.message }));
+  return makeIssue(f.code, f.message, clauseSpan(f.clause, info, model), extra);
+}
