@@ -12,6 +12,9 @@ import { toJsonFile, toSarif, toTextLines } from "../service/check-report.js";
 
 export const VERSION = "0.1.0";
 
+/** Sub-commands this build provides (the demo script reads this). */
+export const COMMANDS = ["check"];
+
 export interface CliIo {
   stdout(text: string): void;
   stderr(text: string): void;
