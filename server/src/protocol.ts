@@ -25,7 +25,7 @@ export interface LossCurves {
   /** Weight function w(q). */
   weight: SeriesData | null;
   /** Conditional risk L(η, ·) for a few η, with the minimiser for each η. */
-  conditionalRisk: { eta: number; series: SeriesData; minimiser: number }[];
+  conditionalRisk: { eta: number; series: SeriesData; minimiser: number; minimumRisk?: number | null }[];
   /** δ and δ** of f = −H. */
   modulus: SeriesData[];
   /** Decision-regret bound vs surrogate regret, one series per route. */
@@ -33,6 +33,19 @@ export interface LossCurves {
   /** Link ψ(q) for composite and margin losses. */
   link: SeriesData | null;
   notes: string[];
+  /** Figures at the parameter values drawn (they follow the viewer's sliders). */
+  figures?: LossFigures;
+  /** Minimiser q*(η) of the conditional risk at the sampled η (equal to η for a proper loss). */
+  minimiser?: SeriesData | null;
+  /** Suggested y range per chart ("partials", "conditional", "bayes", "weight", "link"), clipped where a curve is unbounded. */
+  ranges?: Record<string, [number, number]>;
+}
+
+/** The curvature figures of one loss at the drawn parameter values. */
+export interface LossFigures {
+  lambda: number | null;
+  modulus: { coefficient: number; power: number } | null;
+  exponents: { viaModulus: number | null; direct: number | null };
 }
 
 export interface CurvesParams {
@@ -43,6 +56,8 @@ export interface CurvesParams {
   overrides?: Record<string, Record<string, number>>;
   /** η values at which to sample the conditional risk. */
   etas?: number[];
+  /** Samples per curve (default 151; fewer while a slider is dragged). */
+  points?: number;
 }
 
 export interface CurvesResult {
@@ -78,10 +93,10 @@ export const GENERATE_REQUEST = "propriety/generate";
 /** Messages between the extension host and the curve viewer webview. */
 export type ViewerToHost =
   | { type: "ready" }
-  | { type: "setParam"; loss: string; name: string; value: number }
+  | { type: "setParam"; loss: string; name: string; value: number; seq?: number }
   | { type: "setEta"; eta: number }
   | { type: "selectLosses"; losses: string[] };
 
 export type HostToViewer =
-  | { type: "curves"; data: CurvesResult; eta: number }
+  | { type: "curves"; data: CurvesResult; eta: number; seq?: number }
   | { type: "error"; message: string };

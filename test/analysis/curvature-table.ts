@@ -147,7 +147,15 @@ export const logisticBitsMargin: FixtureInput = { ...logBits, margin: (v) => sof
 export const exponentialMargin: FixtureInput = { ...boosting, margin: (v) => Math.exp(-v), link: (q) => 0.5 * logit(q) };
 export const squaredMargin: FixtureInput = { ...ag14Squared, margin: (v) => (1 - v) ** 2, link: (q) => 2 * q - 1 };
 export const truncatedQuadraticMargin: FixtureInput = { ...ag14Squared, margin: (v) => Math.max(0, 1 - v) ** 2, link: (q) => 2 * q - 1 };
-export const hingeMargin: FixtureInput = { ...hingeBayes, margin: (v) => Math.max(0, 1 - v) };
+/**
+ * Hinge margin loss: its partial losses at the boundary q = ½ are φ(0) = 1 for both labels, i.e. the
+ * supergradient H'(½) = 0 (elsewhere those of 4ℓ_½).
+ */
+export const hingeMargin: FixtureInput = {
+  ...hingeBayes,
+  dbayes: (q) => (q < 0.5 ? 2 : q > 0.5 ? -2 : 0),
+  margin: (v) => Math.max(0, 1 - v),
+};
 
 /** A named fixture with its known strong-properness constant λ (a lower bound on inf w). */
 export interface TableEntry {

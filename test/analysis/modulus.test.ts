@@ -72,6 +72,11 @@ describe("modulusOfConvexity against proper-losses.md §7 (values computed with 
     });
   }
 
+  it("a stricter accuracy target still reproduces the closed form (log δ(0.2), §7 #11)", () => {
+    const model = buildModulusModel(negH(logNats), undefined, { accuracy: 1e-14 });
+    expect(Math.abs(model.delta(0.2) - 0.0201355135507)).toBeLessThanOrEqual(1e-12);
+  });
+
   it("log δ(ε) equals the Bao 2023 §4 closed form δ⁽¹⁾ on a range of ε", () => {
     // Bao 2023 §4: δ(ε) = ((1+ε)/2)ln((1+ε)/2) + ((1−ε)/2)ln((1−ε)/2) + ln 2.
     const closed = (e: number) => ((1 + e) / 2) * Math.log((1 + e) / 2) + ((1 - e) / 2) * Math.log((1 - e) / 2) + Math.LN2;
@@ -98,6 +103,9 @@ describe("δ** and its inverse", () => {
     expect(zo.vacuousBelow).not.toBeNull();
     expect(Math.abs(zo.vacuousBelow! - 0.5)).toBeLessThanOrEqual(1e-9);
     expect(zo.nearZero).toBeNull();
+    // The direct minimisation agrees with the grid model on the kinked f (δ itself is [ε−½]₊ here).
+    expect(Math.abs(modulusOfConvexity(negH(zeroOne), 0.8) - 0.3)).toBeLessThanOrEqual(DELTA_ABS_TOL);
+    expect(modulusOfConvexity(negH(zeroOne), 0.4)).toBeLessThanOrEqual(DELTA_ABS_TOL);
     const hb = buildModulusModel(negH(hingeBayes));
     expect(Math.abs(hb.envelope.value(0.8) - 0.6)).toBeLessThanOrEqual(DELTA_ABS_TOL);
   });
@@ -173,6 +181,13 @@ describe("Simonenko order (Bao 2023, Def. 9, Thm 10)", () => {
     expect(Math.abs(r!.kappa1 - 0.5606483696)).toBeLessThanOrEqual(1e-7);
     // §2.5: q_log = 2 (the infimum is the limit at 0; the sampled range starts at ε*·10⁻³).
     expect(Math.abs(r!.inf - 2)).toBeLessThanOrEqual(1e-6);
+    // Bao 2023 Thm 10: κ₁ε^p ≤ δ**(ε) ≤ κ₂ε^q on [0, ε*].
+    const m = buildModulusModel(negH(logNats));
+    for (const e of [0.001, 0.01, 0.1, 0.3, 0.5]) {
+      const v = m.envelope.value(e);
+      expect(v).toBeGreaterThanOrEqual(r!.kappa1 * e ** r!.sup * (1 - 1e-9));
+      expect(v).toBeLessThanOrEqual(r!.kappa2 * e ** r!.inf * (1 + 1e-9));
+    }
   });
 });
 

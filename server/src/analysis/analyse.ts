@@ -1,8 +1,12 @@
 /**
- * The engine's entry point for one loss family: properness, curvature and bounds, and `expect` claims.
- * Pure: takes a `LossFamily`, returns figures and clause-attributed findings.
+ * The engine's entry point for one loss family: properness (with evidence and parameter sweeps),
+ * curvature and surrogate-regret bounds for proper losses, and the `expect` claims.
+ * Pure: takes a `LossFamily`, returns figures and clause-attributed findings; never throws.
  */
-import type { Finding, LossFamily } from "./loss-model.js";
+import { analyseCurvature, type CurvatureResult } from "./curvature.js";
+import type { Finding, LossFamily, LossFunctions } from "./loss-model.js";
+import { fmt } from "./numeric.js";
+import { analyseProperness, evaluateClaims, type PropernessResult } from "./properness.js";
 
 export type Verdict = "strictly-proper" | "proper" | "improper" | "unknown";
 
@@ -30,27 +34,98 @@ export interface LossAnalysis {
   recovery?: { maxError: number; monotone: boolean } | null;
   /** E.g. "improper for g > 0; proper at g = 0". */
   paramReport?: string | null;
+  /** Where the modulus bound is vacuous: δ** = 0 on (0, ε0]. */
+  vacuousBelow?: number | null;
+  /** Statements for hovers and reports (strong properness, route comparisons, numerical notes). */
+  notes?: string[];
+  /** The derived model at the defaults and the full curvature result, for curves (not serialised). */
+  fns?: LossFunctions | null;
+  curvature?: CurvatureResult | null;
 }
 
 export interface AnalyseOptions {
+  /** Time budget in milliseconds for properness and for curvature, each. */
   deadlineMs?: number;
   seed?: number;
 }
 
-/** Analyses a loss at its parameter defaults (and across declared ranges where the checks support it). */
-export function analyseFamily(family: LossFamily, _options: AnalyseOptions = {}): LossAnalysis {
+/** The time budget per stage; generous for the CLI, the language server passes its own. */
+export const DEFAULT_STAGE_DEADLINE_MS = 2000;
+
+const VERDICT_TEXT: Record<Verdict, string> = {
+  "strictly-proper": "strictly proper",
+  proper: "proper, not strictly",
+  improper: "improper",
+  unknown: "properness unknown",
+};
+
+/** Analyses a loss at its parameter defaults, and across declared ranges where the checks support it. */
+export function analyseFamily(family: LossFamily, options: AnalyseOptions = {}): LossAnalysis {
+  const deadlineMs = options.deadlineMs ?? DEFAULT_STAGE_DEADLINE_MS;
   const defaults = Object.fromEntries(family.params.map((p) => [p.name, p.default]));
-  const spec = family.instantiate(defaults);
-  return {
-    verdict: "unknown",
-    counterexample: null,
-    flatInterval: null,
-    lambda: null,
-    modulus: null,
-    exponents: { viaModulus: null, direct: null },
+  let spec: ReturnType<LossFamily["instantiate"]> | null = null;
+  try {
+    spec = family.instantiate(defaults);
+  } catch (err) {
+    return emptyAnalysis(defaults, 0.5, [{ code: "internal-error", clause: "loss", message: `internal error while instantiating the loss: ${String(err)}` }]);
+  }
+  const prop: PropernessResult = analyseProperness(family, { deadlineMs, ...(options.seed !== undefined ? { seed: options.seed } : {}) });
+  const findings: Finding[] = [...prop.findings];
+
+  // Curvature and bounds are about the Bayes risk of a proper loss; for an improper loss the regret is
+  // not a Bregman divergence of −H and the bounds would not apply.
+  let curvature: CurvatureResult | null = null;
+  if (prop.fns && (prop.verdict === "strictly-proper" || prop.verdict === "proper")) {
+    curvature = analyseCurvature(prop.fns, { deadlineMs });
+    findings.push(...curvature.findings);
+  }
+
+  const exponents = curvature?.exponents ?? { viaModulus: null, direct: null, explanation: null };
+  // Both routes bound the decision regret, so the guaranteed exponent is the better of the two.
+  const known = [exponents.viaModulus, exponents.direct].filter((x): x is number => x !== null && Number.isFinite(x));
+  const bestExponent = known.length > 0 ? Math.max(...known) : null;
+  findings.push(...evaluateClaims(family, prop, { lambda: curvature?.lambda ?? null, exponent: bestExponent }));
+
+  const verdictText = VERDICT_TEXT[prop.verdict];
+  let summary = verdictText;
+  if (curvature) summary = `${verdictText} · ${curvature.summary}`;
+  else if (prop.verdict === "improper" && prop.counterexample) {
+    const c = prop.counterexample;
+    summary = `${verdictText}: at η = ${fmt(c.eta, 4)}, q = ${fmt(c.q, 4)} beats q = η`;
+  }
+  if (prop.paramReport) summary += ` · ${prop.paramReport}`;
+
+  const result: LossAnalysis = {
+    verdict: prop.verdict,
+    counterexample: prop.counterexample,
+    flatInterval: prop.flatInterval,
+    lambda: curvature?.lambda ?? null,
+    modulus: curvature?.modulus ?? null,
+    exponents: { viaModulus: exponents.viaModulus, direct: exponents.direct },
     threshold: spec.threshold,
     params: spec.params,
-    summary: "not analysed yet",
-    findings: [{ code: "analysis-not-implemented", clause: "loss", message: "the properness and curvature engine is not available in this build; the verdict is unknown" }],
+    summary,
+    findings,
+    exponentNote: exponents.explanation,
+    lambdaAt: curvature?.lambdaAt ?? null,
+    minimiser: prop.minimiser ?? null,
+    recovery: prop.recovery ? { maxError: prop.recovery.maxError, monotone: prop.recovery.monotone } : null,
+    paramReport: prop.paramReport ?? null,
+    vacuousBelow: curvature?.vacuousBelow ?? null,
+    notes: curvature?.notes ?? [],
+    fns: prop.fns,
+    curvature,
+  };
+  if (curvature) {
+    result.boundTable = curvature.inverseTable;
+    result.boundUnits = `decision regret: ${curvature.units.decisionRegret}; surrogate regret: ${curvature.units.surrogateRegret}`;
+  }
+  return result;
+}
+
+function emptyAnalysis(params: Record<string, number>, threshold: number, findings: Finding[]): LossAnalysis {
+  return {
+    verdict: "unknown", counterexample: null, flatInterval: null, lambda: null, modulus: null,
+    exponents: { viaModulus: null, direct: null }, threshold, params, summary: VERDICT_TEXT.unknown, findings,
   };
 }

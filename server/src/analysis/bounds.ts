@@ -50,17 +50,44 @@ function oneSidedSlope(f: RealFn, x: number, dir: 1 | -1, h: number): number {
   return (-3 * f(x) + 4 * f(x + s) - f(x + 2 * s)) / (2 * s);
 }
 
+/** The Savage slope is trusted when it agrees with the stencils to this (relative): the stencils err by O(√h) at worst for the §6 losses. */
+const SAVAGE_AGREE_REL = 1e-2;
+
 /**
  * Builds the direct bound at threshold c for f = −H (f wrapped by `boundedUnitFn`).
  * The upper branch (η = c+α) is reached with q ↑ c, so it uses f'(c−); the lower branch (η = c−α)
  * allows q = c, so it uses f'(c+) (RW11 Lemma 26: B_c counts c ≤ q).
+ *
+ * `savageSlope` is the slope s_c = l0(c) − l1(c) of f implied by the partial losses at q = c itself
+ * (Savage: H' = l1 − l0; Bao 2023 Thm 1). Where H is differentiable at c (`kinkAtC` false) it is exact,
+ * while finite differences lose digits when H is not smooth at c (e.g. H = 2^{−α} − |η−½|^α with α < 2),
+ * and the local exponent needs the slope to ≈1e-12. Where w has a point mass at c, s_c is a supergradient
+ * in [f'(c−), f'(c+)]; the lower branch (q = c allowed) then uses min(f'(c+), s_c), which is what the
+ * loss's own value at q = c gives (e.g. a margin loss with φ(0) at the boundary: hinge R ≥ 2α, §6 row 14).
  */
-export function buildDirectBound(f: RealFn, c: number): DirectBoundModel {
+export function buildDirectBound(fIn: RealFn, c: number, savageSlope?: number, kinkAtC = false): DirectBoundModel {
+  // A throwing closure must not escape: exceptions become NaN, which the hull and the fits skip.
+  const f = (x: number) => {
+    try {
+      return fIn(x);
+    } catch {
+      return NaN;
+    }
+  };
   // Step 1e-5 balances the stencil's O(h²·f''') error against rounding O(ulp·|f|/h), both ≈ 1e-10 here.
   const h = Math.min(1e-5, c / 4, (1 - c) / 4);
   const fc = f(c);
-  const slopeLeft = oneSidedSlope(f, c, -1, h);
-  const slopeRight = oneSidedSlope(f, c, 1, h);
+  let slopeLeft = oneSidedSlope(f, c, -1, h);
+  let slopeRight = oneSidedSlope(f, c, 1, h);
+  if (savageSlope !== undefined && Number.isFinite(savageSlope)) {
+    if (!kinkAtC && Math.abs(savageSlope - 0.5 * (slopeLeft + slopeRight)) <= SAVAGE_AGREE_REL * (1 + Math.abs(savageSlope))) {
+      slopeLeft = savageSlope;
+      slopeRight = savageSlope;
+    } else if (kinkAtC) {
+      const slack = SAVAGE_AGREE_REL * (1 + Math.abs(slopeRight - slopeLeft));
+      if (savageSlope >= slopeLeft - slack && savageSlope <= slopeRight + slack) slopeRight = Math.min(slopeRight, Math.max(slopeLeft, savageSlope));
+    }
+  }
   const alphaMax = Math.max(c, 1 - c);
   function branches(alpha: number): { upper: number | null; lower: number | null } {
     const upper = c + alpha <= 1 ? Math.max(0, f(c + alpha) - fc - slopeLeft * alpha) : null;
@@ -119,8 +146,20 @@ export interface PsiTransformModel {
  */
 export function buildPsiTransform(margin: RealFn, bayes: RealFn): PsiTransformModel {
   const phi = (v: number) => {
-    const y = margin(v);
+    let y: number;
+    try {
+      y = margin(v);
+    } catch {
+      y = NaN;
+    }
     return Number.isNaN(y) ? Infinity : y;
+  };
+  const H = (eta: number) => {
+    try {
+      return bayes(eta);
+    } catch {
+      return NaN;
+    }
   };
   // Scores v ≤ 0 (wrong sign for η ≥ ½); tabulated once and reused for every η.
   const vs = new Float64Array(SCORE_CELLS + 1);
@@ -154,7 +193,8 @@ export function buildPsiTransform(margin: RealFn, bayes: RealFn): PsiTransformMo
     if (!(theta > 0)) return 0;
     const t = Math.min(1, theta);
     const eta = (1 + t) / 2;
-    return Math.max(0, wrongSignRisk(eta) - bayes(eta));
+    const gap = wrongSignRisk(eta) - H(eta);
+    return Number.isNaN(gap) ? NaN : Math.max(0, gap);
   }
   const xs: number[] = [];
   const ys: number[] = [];

@@ -15,6 +15,7 @@ export const EQ17_REL_TOL = 1e-6;
 /** Sample points of eq. (17) stay this far from 0 and 1, where w'/w and the bounds themselves blow up. */
 export const EQ17_MARGIN = 1e-4;
 
+/** Convexity in the score: the verdict, the findings with evidence, and which test decided it. */
 export interface ConvexityResult {
   /** True when convex in the score, false when refuted (with a finding), null when not decidable. */
   convex: boolean | null;
@@ -29,13 +30,12 @@ interface Eq17Point {
   upper: number;
 }
 
-function eq17At(w: RealFn, link: RealFn, dlink: RealFn, d2link: RealFn | null, x: number): Eq17Point | null {
+function eq17At(w: RealFn, dlink: RealFn, d2link: RealFn | null, x: number): Eq17Point | null {
   const wx = w(x);
   const dwx = diffInUnit(w, x);
   const p1 = dlink(x);
   const p2 = d2link ? d2link(x) : diffInUnit(dlink, x);
   if (!(wx > 0) || !Number.isFinite(dwx) || !Number.isFinite(p1) || p1 === 0 || !Number.isFinite(p2)) return null;
-  void link;
   return { x, value: dwx / wx - p2 / p1, lower: -1 / x, upper: 1 / (1 - x) };
 }
 
@@ -54,11 +54,10 @@ function violation(p: Eq17Point): { side: "lower" | "upper" | null; amount: numb
  */
 export function checkEq17(fns: LossFunctions, d2link: RealFn | null = null): ConvexityResult {
   const w = fns.weight;
-  const link = fns.link;
   const dlink = fns.dlink;
-  if (!w || !link || !dlink) return { convex: null, findings: [], method: "none" };
+  if (!w || !fns.link || !dlink) return { convex: null, findings: [], method: "none" };
   const xs = probabilityGrid(200, 4).filter((x) => x >= EQ17_MARGIN && x <= 1 - EQ17_MARGIN);
-  const pts: (Eq17Point | null)[] = xs.map((x) => eq17At(w, link, dlink, d2link, x));
+  const pts: (Eq17Point | null)[] = xs.map((x) => eq17At(w, dlink, d2link, x));
   let first = -1;
   let last = -1;
   let side: "lower" | "upper" | null = null;
@@ -69,8 +68,9 @@ export function checkEq17(fns: LossFunctions, d2link: RealFn | null = null): Con
     if (!p) continue;
     const v = violation(p);
     if (v.side && (side === null || v.side === side)) {
+      // The failing set is summarised by its first and last grid points on the same side of eq. (17).
       if (first < 0) first = i;
-      if (last < 0 || i === last + 1 || side === v.side) last = i;
+      last = i;
       side = v.side;
       if (v.amount / Math.max(1, Math.abs(v.side === "lower" ? p.lower : p.upper)) > worstAmount) {
         worstAmount = v.amount / Math.max(1, Math.abs(v.side === "lower" ? p.lower : p.upper));
@@ -81,17 +81,21 @@ export function checkEq17(fns: LossFunctions, d2link: RealFn | null = null): Con
   if (first < 0 || !worst || !side) return { convex: true, findings: [], method: "rw10-eq17" };
   // Refine the failing interval's ends: the root of (value − bound) between a passing and a failing grid point.
   const gap = (x: number) => {
-    const p = eq17At(w, link, dlink, d2link, x);
+    const p = eq17At(w, dlink, d2link, x);
     if (!p) return NaN;
     return side === "lower" ? p.value - p.lower : p.upper - p.value;
   };
-  const refine = (inside: number, outside: number | undefined) => {
-    if (outside === undefined) return inside;
-    const r = bisect(gap, Math.min(inside, outside), Math.max(inside, outside), 1e-14, 100);
-    return r ?? inside;
+  // The bound may hold with equality at the grid point next to the failing run, so the bracket reaches a few points further.
+  const refine = (inside: number, outsides: (number | undefined)[]) => {
+    for (const outside of outsides) {
+      if (outside === undefined) continue;
+      const r = bisect(gap, Math.min(inside, outside), Math.max(inside, outside), 1e-14, 100);
+      if (r !== null) return r;
+    }
+    return inside;
   };
-  const a = first > 0 ? refine(xs[first]!, xs[first - 1]) : 0;
-  const b = last < xs.length - 1 ? refine(xs[last]!, xs[last + 1]) : 1;
+  const a = first > 0 ? refine(xs[first]!, [xs[first - 1], xs[first - 3]]) : 0;
+  const b = last < xs.length - 1 ? refine(xs[last]!, [xs[last + 1], xs[last + 3]]) : 1;
   const bound = side === "lower" ? `−1/x = ${fmt(worst.lower)}` : `1/(1−x) = ${fmt(worst.upper)}`;
   const rel = side === "lower" ? "<" : ">";
   const finding: Finding = {

@@ -30,29 +30,37 @@ export function endpointLimit(f: RealFn, at: 0 | 1): number {
   return NaN;
 }
 
+/** Slots of the direct-mapped evaluation cache of `boundedUnitFn` (a power of two). */
+const CACHE_SLOTS = 8192;
+
 /**
  * Wraps f on [0,1]: arguments are clamped into [0,1], the endpoint values are the limits from
- * `endpointLimit`, thrown exceptions become NaN, and every evaluation is memoised (the analyses
- * revisit the same points many times, and f may be expensive when H is itself a minimisation).
+ * `endpointLimit`, thrown exceptions become NaN, and evaluations are cached in a small direct-mapped
+ * table keyed by the bits of x (the analyses revisit grid points and bracket ends, and f may be
+ * expensive when H is itself a minimisation). A Map keyed by doubles was measured to cost more than
+ * evaluating a closed-form H, hence the fixed table.
  */
 export function boundedUnitFn(f: RealFn): RealFn {
   const f0 = endpointLimit(f, 0);
   const f1 = endpointLimit(f, 1);
-  const cache = new Map<number, number>();
+  const keys = new Float64Array(CACHE_SLOTS).fill(NaN);
+  const vals = new Float64Array(CACHE_SLOTS);
+  const scratch = new Float64Array(1);
+  const bits = new Uint32Array(scratch.buffer);
   return (x: number) => {
     if (!(x > 0)) return f0;
     if (!(x < 1)) return f1;
-    const hit = cache.get(x);
-    if (hit !== undefined) return hit;
+    scratch[0] = x;
+    const slot = (bits[0]! ^ Math.imul(bits[1]!, 0x9e3779b1)) & (CACHE_SLOTS - 1);
+    if (keys[slot] === x) return vals[slot]!;
     let y: number;
     try {
       y = f(x);
     } catch {
       y = NaN;
     }
-    // The cache is bounded so that long sessions cannot grow it without limit.
-    if (cache.size > 200_000) cache.clear();
-    cache.set(x, y);
+    keys[slot] = x;
+    vals[slot] = y;
     return y;
   };
 }
@@ -360,6 +368,20 @@ export function aitkenLimit(seq: number[]): number {
   return Number.isFinite(lim) ? lim : c;
 }
 
+/**
+ * Iterated Aitken Δ² (Shanks) extrapolation: each pass removes one geometric error component, so a ladder
+ * of 2k+1 terms handles k components (e.g. w(t) = λ + a·t + b·t² sampled at t = 10^{−i}).
+ */
+export function shanksLimit(seq: number[]): number {
+  let cur = seq.slice();
+  while (cur.length >= 3) {
+    const next: number[] = [];
+    for (let i = 0; i + 2 < cur.length; i++) next.push(aitkenLimit(cur.slice(i, i + 3)));
+    cur = next;
+  }
+  return cur[cur.length - 1] ?? NaN;
+}
+
 /** Snaps p to a rational n/d (d = 1..4) within tol; returns null when none is that close. */
 export function snapRational(p: number, tol = POWER_SNAP_TOL): number | null {
   if (!Number.isFinite(p)) return null;
@@ -379,18 +401,22 @@ export function snapRational(p: number, tol = POWER_SNAP_TOL): number | null {
 /**
  * Fits g(x) ≈ coefficient·x^power as x → 0⁺ from g at x0·2^{−i}, i = 0..n−1: local log-log slopes,
  * Aitken-extrapolated, snapped to a simple rational within POWER_SNAP_TOL, then the coefficient
- * g(x)/x^power extrapolated the same way. Returns null when g is not positive and finite on the ladder.
+ * g(x)/x^power extrapolated the same way. The ladder stops early where g falls below `floor` (its rounding
+ * level). Returns null when g is not positive and finite on the ladder.
  */
-export function fitPowerLawAtZero(g: RealFn, x0: number, n = 8): PowerLaw | null {
+export function fitPowerLawAtZero(g: RealFn, x0: number, n = 8, floor = 0): PowerLaw | null {
   const xs: number[] = [];
   const ys: number[] = [];
   for (let i = 0; i < n; i++) {
     const x = x0 * 2 ** -i;
     const y = g(x);
+    // Values below `floor` are dominated by rounding in g; the ladder stops there (keeping at least four points).
+    if (xs.length >= 4 && y < floor) break;
     if (!(Number.isFinite(y) && y > 0)) return null;
     xs.push(x);
     ys.push(y);
   }
+  n = xs.length;
   const slopes: number[] = [];
   for (let i = 0; i + 1 < n; i++) slopes.push(Math.log2(ys[i]! / ys[i + 1]!));
   const rawPower = aitkenLimit(slopes);

@@ -14,8 +14,8 @@
  */
 import type { Finding, LossFunctions, RealFn } from "./loss-model.js";
 import { fmt, goldenMin, probabilityGrid } from "./numeric.js";
-import { aitkenLimit, boundedUnitFn, fitPowerLawAtZero, snapRational, type PowerLaw } from "./convex.js";
-import { buildModulusModel, sampleUnitGrid, ZERO_GAP_TOL, type ModulusModel, type SimonenkoRange, type UnitGrid } from "./modulus.js";
+import { boundedUnitFn, fitPowerLawAtZero, shanksLimit, snapRational, type PowerLaw } from "./convex.js";
+import { buildModulusModel, ROUNDING_GAP_TOL, sampleUnitGrid, type ModulusModel, type SimonenkoRange, type UnitGrid } from "./modulus.js";
 import { buildDirectBound, buildPsiTransform, modulusRouteBound, type DirectBoundModel, type PsiTransformModel } from "./bounds.js";
 
 /** A point mass of w at q (a kink of H: the jump of H' there is −mass). */
@@ -26,7 +26,7 @@ export interface PointMass {
 
 export interface WeightFeatures {
   pointMasses: PointMass[];
-  /** Intervals on which H is affine (w = 0), to within ZERO_GAP_TOL. */
+  /** Intervals on which H is affine (w = 0), to rounding (midpoint gaps within ROUNDING_GAP_TOL). */
   zeroIntervals: [number, number][];
 }
 
@@ -70,7 +70,10 @@ export interface CurvatureResult {
 export interface CurvatureOptions {
   /** Time budget in milliseconds (default 2000); stages not reached become analysis-unknown findings. */
   deadlineMs?: number;
-  /** Target absolute accuracy of δ (default 1e-8); informational: the engine's tolerances meet it. */
+  /**
+   * Target absolute accuracy of δ (default 1e-8). It sets the midpoint tolerance of every exact δ
+   * evaluation; the defaults already give ≈1e-13 on the §7 losses, so only stricter targets change it.
+   */
   accuracy?: number;
 }
 
@@ -78,7 +81,7 @@ export interface CurvatureOptions {
 export const INVERSE_TABLE_TARGETS = [0.1, 0.05, 0.01, 0.001];
 /**
  * A second difference of f on the grid below ZERO_CURVATURE_TOL·(1+max|f|) counts as zero curvature:
- * its rounding is ≈ 4N·ulp(max|f|) ≈ 1e-12·max|f| for N = 1024, while w·h for the §6 losses is ≥ 1e-7.
+ * its rounding is ≈ 4N·ulp(max|f|) ≈ 5e-13·max|f| for N = 512, while w·h for the §6 losses is ≥ 1e-7.
  */
 const ZERO_CURVATURE_TOL = 1e-10;
 /** A grid second difference this many times its neighbours' is a candidate kink (a smooth w gives a ratio near 1–2). */
@@ -121,6 +124,16 @@ export function numericWeight(f: RealFn): RealFn {
   };
 }
 
+/** f'(c) = l0(c) − l1(c) for f = −H (Savage: H' = l1 − l0), or undefined when not finite. */
+export function savageSlope(fns: LossFunctions, c: number): number | undefined {
+  try {
+    const s = fns.l0(c) - fns.l1(c);
+    return Number.isFinite(s) ? s : undefined;
+  } catch {
+    return undefined;
+  }
+}
+
 function safeFn(g: RealFn): RealFn {
   return (x: number) => {
     try {
@@ -149,7 +162,10 @@ function locateKink(f: RealFn, lo: number, hi: number, massTol: number): PointMa
     const a = Math.max(d, c - d);
     const b = Math.min(1 - d, c + d);
     if (!(b > a)) return null;
-    const m = goldenMin((x) => -intervalGap(f, x - d, x + d), a, b, 1e-13);
+    // Early rounds only need the kink well within the next, 8× smaller half-width (d/2000); the last
+    // round sets the mass, whose relative error is the location error over d, so it is located tightly.
+    const tol = round < 4 ? d / 2000 / (1 + a + b) : 1e-14;
+    const m = goldenMin((x) => -intervalGap(f, x - d, x + d), a, b, tol);
     c = m.x;
     masses.push((2 * -m.fx) / d);
     d /= 8;
@@ -160,8 +176,16 @@ function locateKink(f: RealFn, lo: number, hi: number, massTol: number): PointMa
   return { q: c, mass: last };
 }
 
-/** Point masses and zero intervals of w from the grid samples of f = −H. */
+/** Point masses and zero intervals of w from the grid samples of f = −H (none found when the scan fails; never throws). */
 export function detectWeightFeatures(grid: UnitGrid): WeightFeatures {
+  try {
+    return scanWeightFeatures(grid);
+  } catch {
+    return { pointMasses: [], zeroIntervals: [] };
+  }
+}
+
+function scanWeightFeatures(grid: UnitGrid): WeightFeatures {
   const { n, values: F, f } = grid;
   const scale = 1 + grid.scale;
   const curv = new Float64Array(n + 1);
@@ -185,8 +209,9 @@ export function detectWeightFeatures(grid: UnitGrid): WeightFeatures {
   }
   pointMasses.sort((a, b) => a.q - b.q);
 
-  // Zero intervals: runs of (near-)zero second differences, confirmed by the midpoint gap of the whole run.
-  const gapTol = ZERO_GAP_TOL * scale;
+  // Zero intervals: runs of (near-)zero second differences, confirmed by the midpoint gap of the whole run
+  // being at the rounding level (a high-order zero of w, e.g. w ~ t³ at an endpoint, leaves gaps above it).
+  const gapTol = ROUNDING_GAP_TOL * scale;
   const zeroIntervals: [number, number][] = [];
   let k = 1;
   while (k < n) {
@@ -231,7 +256,17 @@ function extendAffine(f: RealFn, a: number, b: number, dir: -1 | 1, limit: numbe
   return good;
 }
 
+/** Relative disagreement between a supplied weight and second differences of H beyond which the latter is preferred near an endpoint (the numeric estimate is good to ≈1e-3 even for √q-type endpoint behaviour). */
+const LAMBDA_CROSSCHECK_REL = 1e-2;
+
+/** True when the infimum of w came from a sample within 1e-4 of an endpoint (where second differences of H are not sampled). */
+function isExtreme(lam: LambdaEstimate): boolean {
+  return lam.extremeAt !== null;
+}
+
 interface LambdaEstimate {
+  /** The sample within 1e-4 of an endpoint that set λ, if any. */
+  extremeAt: number | null;
   lambda: number | null;
   at: { q: number; approached: boolean } | null;
   /** w ~ A·t^k next to where λ = 0 sits (t = distance), when λ = 0 and not on a zero interval. */
@@ -254,7 +289,9 @@ function estimateLambda(w: RealFn, numeric: boolean, features: WeightFeatures): 
     }
     if (iMin < 0 || v < vals[iMin]!) iMin = i;
   }
-  if (iMin < 0) return { lambda: null, at: null, vanishingOrder: null, negativeAt: null, nonFiniteAt };
+  if (iMin < 0) return { lambda: null, at: null, vanishingOrder: null, negativeAt: null, nonFiniteAt, extremeAt: null };
+  const qMin = grid[iMin]!;
+  const extremeAt = qMin < 1e-4 || qMin > 1 - 1e-4 ? qMin : null;
   const typical = Math.abs(w(0.5));
   const zeroTol = (numeric ? LAMBDA_ZERO_TOL_NUMERIC : LAMBDA_ZERO_TOL_CLOSURE) * (1 + (Number.isFinite(typical) ? typical : 0));
   const minVal = vals[iMin]!;
@@ -280,24 +317,42 @@ function estimateLambda(w: RealFn, numeric: boolean, features: WeightFeatures): 
     lambda = Math.min(vals[i]!, r.fx);
     at = { q: r.fx < vals[i]! ? r.x : grid[i]!, approached: false };
   } else {
-    // The infimum is approached at an endpoint: extrapolate w(t) as t → 0 (Aitken on a geometric ladder).
+    // The infimum is approached at an endpoint: extrapolate w(t) as t → 0 (Shanks on a geometric ladder).
     const atZero = iMin === 0;
-    const ladder = numeric ? [1e-2, 1e-3, 1e-4] : [1e-6, 1e-9, 1e-12];
+    // Five points so that Shanks' iterated Aitken removes two error terms (e.g. a·t + b·t², or a·√t + b·t).
+    const ladder = numeric ? [1e-2, 10 ** -2.5, 1e-3, 10 ** -3.5, 1e-4] : [1e-6, 10 ** -7.5, 1e-9, 10 ** -10.5, 1e-12];
     const seq = ladder.map((t) => w(atZero ? t : 1 - t));
-    const lim = seq.every(Number.isFinite) ? aitkenLimit(seq) : minVal;
+    let lim = seq.every(Number.isFinite) ? shanksLimit(seq) : minVal;
+    // The limit of non-negative samples is non-negative: a negative value is extrapolation overshoot (e.g. w ~ √t).
+    if (seq.every((v) => v >= 0)) lim = Math.max(0, lim);
     lambda = Math.min(minVal, lim);
     at = { q: atZero ? 0 : 1, approached: true };
   }
   let negativeAt: number | null = null;
-  if (Math.abs(lambda) <= zeroTol) lambda = 0;
+  if (Math.abs(lambda) <= zeroTol) {
+    lambda = 0;
+    // When w is zero to within its noise all the way from an endpoint to the minimiser, the infimum is
+    // the endpoint limit (second differences of H cannot resolve w ~ t^k with large k near the endpoint).
+    if (!at.approached && features.zeroIntervals.length === 0) {
+      const upTo = (from: number, to: number) => {
+        const lo = Math.min(from, to);
+        const hi = Math.max(from, to);
+        for (let i = 0; i < grid.length; i++) if (grid[i]! >= lo && grid[i]! <= hi && !(vals[i]! <= zeroTol)) return false;
+        return true;
+      };
+      if (at.q < 0.5 && upTo(grid[0]!, at.q)) at = { q: 0, approached: true };
+      else if (at.q > 0.5 && upTo(at.q, grid[grid.length - 1]!)) at = { q: 1, approached: true };
+    }
+  }
   else if (lambda < 0) negativeAt = at.q;
   let vanishingOrder: PowerLaw | null = null;
   if (lambda === 0 && features.zeroIntervals.length === 0) {
     const q0 = at.q;
     const toward = q0 >= 1 ? (t: number) => w(1 - t) : q0 <= 0 ? (t: number) => w(t) : (t: number) => w(Math.min(1, q0 + t));
-    vanishingOrder = fitPowerLawAtZero(toward, numeric ? 1e-2 : 1e-3, 8);
+    // Second differences of H carry ≈ 4·ulp·|H|/h² ≈ 1e-7 of rounding; below 1e-5·(1 + w(½)) they are noise.
+    vanishingOrder = fitPowerLawAtZero(toward, numeric ? 1e-2 : 1e-3, 8, numeric ? 1e-5 * (1 + (Number.isFinite(typical) ? typical : 0)) : 0);
   }
-  return { lambda, at, vanishingOrder, negativeAt, nonFiniteAt };
+  return { lambda, at, vanishingOrder, negativeAt, nonFiniteAt, extremeAt };
 }
 
 const FRACTIONS: Record<string, string> = { "1/2": "½", "1/3": "⅓", "2/3": "⅔", "1/4": "¼", "3/4": "¾", "1/5": "⅕", "1/6": "⅙", "1/8": "⅛" };
@@ -404,7 +459,7 @@ export function analyseCurvature(fns: LossFunctions, options?: CurvatureOptions)
 
     let features: WeightFeatures = { pointMasses: [], zeroIntervals: [] };
     try {
-      features = detectWeightFeatures(grid);
+      features = scanWeightFeatures(grid);
     } catch (err) {
       findings.push(internalError("weight features", err));
     }
@@ -414,6 +469,23 @@ export function analyseCurvature(fns: LossFunctions, options?: CurvatureOptions)
       lam = estimateLambda(weight, weightIsNumeric, features);
     } catch (err) {
       findings.push(internalError("λ", err));
+    }
+    if (lam && lam.lambda !== null && !weightIsNumeric && isExtreme(lam)) {
+      // A supplied weight may itself be a finite difference that loses its digits within 1e-4 of an
+      // endpoint. When the infimum comes from there, cross-check with second differences of H whose
+      // step stays away from the endpoints, and prefer those when they disagree.
+      try {
+        const own = estimateLambda(numericWeight(f), true, features);
+        const gap = own.lambda === null ? 0 : own.lambda - lam.lambda;
+        if (own.lambda !== null && own.negativeAt === null && gap > LAMBDA_CROSSCHECK_REL * (1 + Math.abs(own.lambda))) {
+          notes.push(
+            `The weight function gives w = ${fmt(lam.lambda)} near q = ${fmt(lam.extremeAt ?? NaN)}, but second differences of H give λ = ${fmt(own.lambda)}; the weight looks inaccurate that close to the endpoint, so λ is taken from second differences of H.`,
+          );
+          lam = own;
+        }
+      } catch (err) {
+        findings.push(internalError("λ (second differences)", err));
+      }
     }
     let lambda: number | null = lam?.lambda ?? null;
     let lambdaAt = lam?.at ?? null;
@@ -434,7 +506,7 @@ export function analyseCurvature(fns: LossFunctions, options?: CurvatureOptions)
     let modulus: ModulusModel | null = null;
     if (!overBudget("the modulus of convexity")) {
       try {
-        modulus = buildModulusModel(f, grid);
+        modulus = buildModulusModel(f, grid, { accuracy: options?.accuracy });
       } catch (err) {
         findings.push(internalError("modulus of convexity", err));
       }
@@ -442,7 +514,8 @@ export function analyseCurvature(fns: LossFunctions, options?: CurvatureOptions)
     let direct: DirectBoundModel | null = null;
     if (!overBudget("the direct bound")) {
       try {
-        direct = buildDirectBound(f, threshold);
+        const kinkAtC = features.pointMasses.some((p) => Math.abs(p.q - threshold) < 1e-6);
+        direct = buildDirectBound(f, threshold, savageSlope(fns, threshold), kinkAtC);
       } catch (err) {
         findings.push(internalError("direct bound", err));
       }
@@ -616,7 +689,7 @@ function explainExponents(x: ExplainInput): string | null {
     return `w grows without bound at the threshold c = ${c} (the direct bound ψ_RW ~ α^${fmt(1 / x.direct, 3)}), which speeds up only the direct bound.`;
   }
   if (x.direct > x.viaModulus && x.lambda === 0 && x.lambdaAt) {
-    const k = x.vanishing ? fmt(x.vanishing.power, 3) : "k";
+    const k = x.vanishing && x.vanishing.stable && x.vanishing.power > 0 ? fmt(x.vanishing.power, 3) : "k";
     if (x.lambdaAt.approached || x.lambdaAt.q <= 0 || x.lambdaAt.q >= 1) {
       const e = x.lambdaAt.q >= 1 ? "1" : "0";
       const t = e === "0" ? "q" : "(1−q)";

@@ -45,6 +45,7 @@ export function impliedInverseLink(dphi: RealFn): RealFn {
   };
 }
 
+/** The result of scanning the implied inverse link over the score range. */
 export interface MarginLinkScan {
   /** True when ψ⁻¹ is strictly increasing with values in [0,1] on [vlo, vhi] (up to saturation in doubles). */
   invertible: boolean;
@@ -136,6 +137,7 @@ export function marginWrongSignBayes(phi: RealFn, eta: number): number {
   return globalMin((v) => marginRisk(phi, eta, v), a, b, MARGIN_MIN_GRID / 2, 3).fx;
 }
 
+/** The result of a second-difference convexity scan, with the evidence point. */
 export interface ConvexityScan {
   convex: boolean;
   /** The score where a second difference of φ is negative (the evidence), with its value. */
@@ -167,11 +169,34 @@ export function scanConvexity(phi: RealFn, lo = -MARGIN_SCORE_BOUND, hi = MARGIN
   return { convex: where === null, where, secondDifference: where === null ? null : worst };
 }
 
-/** One-sided difference step for testing differentiability of φ at 0. */
-export const KINK_STEP = 1e-6;
-/** Relative disagreement of one-sided slopes at 0 that counts as a kink (first-order truncation of one-sided differences is ~h). */
-export const KINK_TOL = 1e-4;
+/** Steps for the kink test at 0: one-sided slopes differ by O(h) for smooth φ and by the slope jump at a kink. */
+export const KINK_STEPS: readonly [number, number] = [1e-4, 1e-6];
+/** A kink is declared when shrinking the step 100-fold shrinks the slope gap by less than this factor (smooth: 100×). */
+export const KINK_SHRINK = 10;
 
+/**
+ * Whether φ is differentiable at 0: the gap between the right and left difference quotients shrinks
+ * linearly with the step for smooth φ and tends to the slope jump at a kink.
+ */
+export function isDifferentiableAtZero(phi: RealFn): { differentiable: boolean; left: number; right: number } {
+  const f0 = safeCall(phi, 0);
+  const gapAt = (h: number) => {
+    const left = (f0 - safeCall(phi, -h)) / h;
+    const right = (safeCall(phi, h) - f0) / h;
+    return { left, right, gap: Math.abs(right - left) };
+  };
+  const [h1, h2] = KINK_STEPS;
+  const a = gapAt(h1);
+  const b = gapAt(h2);
+  if (!Number.isFinite(a.gap) || !Number.isFinite(b.gap)) return { differentiable: false, left: b.left, right: b.right };
+  const scale = Math.max(1, Math.abs(b.left), Math.abs(b.right));
+  // Rounding in the quotients is ~eps·|φ(0)|/h; gaps below that carry no information.
+  const noise = 1e-15 * Math.max(1, Math.abs(f0)) / h2;
+  const differentiable = b.gap <= noise + 1e-9 * scale || b.gap * KINK_SHRINK <= a.gap;
+  return { differentiable, left: b.left, right: b.right };
+}
+
+/** Classification calibration (null when undecided) and the findings explaining a failure. */
 export interface CalibrationResult {
   calibrated: boolean | null;
   findings: Finding[];
@@ -184,12 +209,7 @@ export interface CalibrationResult {
 export function checkMarginCalibration(phi: RealFn, dphi: RealFn, convex: boolean): CalibrationResult {
   const findings: Finding[] = [];
   if (convex) {
-    const h = KINK_STEP;
-    const f0 = safeCall(phi, 0);
-    const left = (f0 - safeCall(phi, -h)) / h;
-    const right = (safeCall(phi, h) - f0) / h;
-    const scale = Math.max(1, Math.abs(left), Math.abs(right));
-    const differentiable = Number.isFinite(left) && Number.isFinite(right) && Math.abs(left - right) <= KINK_TOL * scale;
+    const { differentiable, left, right } = isDifferentiableAtZero(phi);
     const slope = differentiable ? safeCall(dphi, 0) : NaN;
     if (!differentiable) {
       findings.push({

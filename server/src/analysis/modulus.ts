@@ -15,16 +15,35 @@ import type { RealFn } from "./loss-model.js";
 import { goldenMin } from "./numeric.js";
 import { boundedUnitFn, fitPowerLawAtZero, LowerEnvelope, robustMin, type PowerLaw } from "./convex.js";
 
-/** Default number of grid cells on [0,1] (N). 1024 keeps the O(N²/4) grid scan near 1 ms. */
-export const MODULUS_GRID = 1024;
+/** Default number of grid cells on [0,1] (N). 512 keeps the O(N²/4) grid scan well under 1 ms; exact values come from refinement, not from the grid. */
+export const MODULUS_GRID = 512;
 /**
- * A midpoint gap below ZERO_GAP_TOL·(1 + max|f|) counts as zero: the rounding of (f(a)+f(b))/2 − f(m) is a
- * few ulps of max|f| (≈ 1e-15 relative), and a strictly convex f on the §6 table has gaps ≥ 1e-11 at the
- * first grid width, so 1e-12 separates the two.
+ * A midpoint gap below ZERO_GAP_TOL·(1 + max|f|) is a candidate zero: the rounding of (f(a)+f(b))/2 − f(m)
+ * is a few ulps of max|f| (≈ 1e-15 relative), and most strictly convex f of the §6 table have gaps ≥ 1e-9
+ * at the first grid width. Losses with a high-order zero of w at an endpoint (w ~ t³) fall below it, so a
+ * vacuous stretch is only accepted when the gap at half its width is at the rounding level (ROUNDING_GAP_TOL).
  */
 export const ZERO_GAP_TOL = 1e-12;
-/** Golden-section tolerance on the midpoint (relative): the gap error is quadratic in the midpoint error, so 1e-10 gives ≪ 1e-8 absolute. */
-const MIDPOINT_TOL = 1e-10;
+/** Gaps of an affine stretch are rounding only: (f(a)+f(b))/2 − f(m) with three rounded values is within ≈ 2–4 ulps of max|f|, i.e. 1e-15·(1 + max|f|). */
+export const ROUNDING_GAP_TOL = 1e-15;
+/**
+ * Golden-section tolerance on the midpoint (relative to 1 + |a| + |b|). The gap is flat at its minimum, so
+ * its error is ≈ ½·g''·Δm² with g'' ≲ 2 for the §6 losses: Δm ≈ 2e-7 gives ≈ 4e-14, far below the 1e-8
+ * target, in about 25 iterations per basin (the cost of every exact δ).
+ */
+const MIDPOINT_TOL = 1e-7;
+
+/** Options of `buildModulusModel`. */
+export interface ModulusOptions {
+  /** Target absolute accuracy of δ; the midpoint tolerance is tightened below MIDPOINT_TOL only for targets under 1e-8. */
+  accuracy?: number;
+}
+
+/** Midpoint tolerance for an accuracy target: Δm ≈ √(2·accuracy/g'') with g'' ≲ 2, kept within [1e-10, MIDPOINT_TOL]. */
+function midpointTolFor(accuracy: number | undefined): number {
+  if (accuracy === undefined || !(accuracy > 0)) return MIDPOINT_TOL;
+  return Math.min(MIDPOINT_TOL, Math.max(1e-10, Math.sqrt(accuracy) * 1e-3));
+}
 
 /** f sampled on the uniform grid k/N, k = 0..N (shared by the modulus and the weight-feature scan). */
 export interface UnitGrid {
@@ -110,7 +129,8 @@ export function modulusOfConvexity(f: RealFn, eps: number): number {
  * Builds the modulus model of f (convex on [0,1]; pass −H). f should already be wrapped by
  * `boundedUnitFn` when a grid is supplied; otherwise it is wrapped here.
  */
-export function buildModulusModel(fRaw: RealFn, gridIn?: UnitGrid): ModulusModel {
+export function buildModulusModel(fRaw: RealFn, gridIn?: UnitGrid, options?: ModulusOptions): ModulusModel {
+  const midpointTol = midpointTolFor(options?.accuracy);
   const grid = gridIn ?? sampleUnitGrid(boundedUnitFn(fRaw));
   const { n, values: F } = grid;
   const f = grid.f;
@@ -156,14 +176,17 @@ export function buildModulusModel(fRaw: RealFn, gridIn?: UnitGrid): ModulusModel
     const hi = 1 - d;
     let best = Math.min(gap(lo), gap(hi));
     const j = Math.min(half, Math.max(1, Math.round(eps * half)));
-    const centres = new Set<number>();
-    for (const jj of [j, Math.max(1, j - 1), Math.min(half, j + 1)]) for (const m of basins(jj)) centres.add(m);
+    // Basins from the neighbouring grid rows, merged when closer than the bracket half-width.
     const width = 3 / n;
+    const centres: number[] = [];
+    for (const jj of [j, Math.max(1, j - 1), Math.min(half, j + 1)]) {
+      for (const m of basins(jj)) if (!centres.some((c) => Math.abs(c - m) <= width)) centres.push(m);
+    }
     for (const m0 of centres) {
       const a = Math.max(lo, m0 - width);
       const b = Math.min(hi, m0 + width);
       if (!(b > a)) continue;
-      const r = goldenMin(gap, a, b, MIDPOINT_TOL);
+      const r = goldenMin(gap, a, b, midpointTol);
       if (r.fx < best) best = r.fx;
     }
     return Number.isFinite(best) ? Math.max(0, best) : NaN;
@@ -188,22 +211,29 @@ export function buildModulusModel(fRaw: RealFn, gridIn?: UnitGrid): ModulusModel
         else b = m;
       }
     }
-    vacuousBelow = a;
+    // A genuine affine stretch gives gaps at the rounding level (a few ulps of max|f|); a tiny power law
+    // (w ~ t^k with large k at an endpoint) gives gaps well above it at half the width, so it is not vacuous.
+    if (delta(a / 2) <= ROUNDING_GAP_TOL * (1 + grid.scale)) vacuousBelow = a;
   }
 
-  const nearZero = vacuousBelow === null ? fitPowerLawAtZero((e) => envelope.value(e), 0.05, 8) : null;
+  // Below ≈1e-10·(1 + max|f|) a gap carries a relative rounding error above 1e-6, which would bend the slopes.
+  const fitFloor = 1e-10 * (1 + grid.scale);
+  const nearZero = vacuousBelow === null ? fitPowerLawAtZero((e) => envelope.value(e), 0.05, 8, fitFloor) : null;
 
   function simonenko(t: number): number {
     if (!(t > 0 && t <= 1)) return NaN;
     const v = envelope.value(t);
     if (!(v > 0)) return NaN;
-    // A relative step of 1e-2 below ε = 0.05 keeps rounding (≈ ulp·|f|/(h·δ')) under 1e-7 where δ is tiny;
-    // the five-point stencil keeps the truncation error O((h/t)⁴) at that step.
-    const h = t * (t < 0.05 ? 1e-2 : 1e-3);
+    // Below ε = 0.05, where δ is tiny, a relative step of 1e-2 keeps rounding (≈ ulp·|f|/(h·δ')) under 1e-7
+    // and the five-point stencil keeps the truncation error O((h/t)⁴); above it a three-point stencil with
+    // relative step 1e-4 has truncation ≈ 1e-8 and rounding ≈ 1e-11, at two evaluations fewer.
+    const small = t < 0.05;
+    const h = t * (small ? 1e-2 : 1e-4);
     const e = (x: number) => envelope.value(x);
     let slope: number;
-    if (t + 2 * h <= 1) slope = (8 * (e(t + h) - e(t - h)) - (e(t + 2 * h) - e(t - 2 * h))) / (12 * h);
-    else slope = (3 * v - 4 * e(t - h) + e(t - 2 * h)) / (2 * h);
+    if (t + 2 * h > 1) slope = (3 * v - 4 * e(t - h) + e(t - 2 * h)) / (2 * h);
+    else if (small) slope = (8 * (e(t + h) - e(t - h)) - (e(t + 2 * h) - e(t - 2 * h))) / (12 * h);
+    else slope = (e(t + h) - e(t - h)) / (2 * h);
     return (t * slope) / v;
   }
 
@@ -211,7 +241,7 @@ export function buildModulusModel(fRaw: RealFn, gridIn?: UnitGrid): ModulusModel
     if (vacuousBelow !== null || !(epsStar > 0 && epsStar <= 1)) return null;
     let sup = -Infinity;
     let inf = Infinity;
-    const pts = 32;
+    const pts = 8;
     for (let i = 0; i <= pts; i++) {
       // Log-spaced from ε*·10⁻³ to ε*: the order function varies on a logarithmic scale near 0.
       const t = epsStar * 10 ** (-3 + (3 * i) / pts);

@@ -5,38 +5,49 @@
  */
 import { bisect, integrate } from "./numeric.js";
 
-/** Relative step of first differences away from the endpoints (balances truncation ~h² against rounding ~eps/h). */
-export const DIFF_STEP = 1e-6;
-/** Fraction of the distance to the nearest endpoint a step may take, so differences never leave (0,1). */
-export const DIFF_ENDPOINT_FRACTION = 1e-3;
-/** Step of second differences (rounding error grows like eps/h², so the step is larger than for first differences). */
-export const DIFF2_STEP = 1e-4;
+/**
+ * Step of the five-point first difference away from the endpoints: truncation ~h⁴·f⁽⁵⁾/30 and rounding
+ * ~eps·|f|/h balance near h ≈ eps^{1/5} ≈ 1e-3; 2e-4 keeps truncation below 1e-14 for O(1) derivatives.
+ */
+export const DIFF_STEP = 2e-4;
+/**
+ * Fraction of the distance d to the nearest endpoint used as the step there (the stencil reaches 2h = d/25,
+ * staying inside (0,1)); truncation is then ~(h/d)⁴ ≈ 2e-7 (times the derivative's growth constant) for functions singular at the endpoint.
+ */
+export const DIFF_ENDPOINT_FRACTION = 0.02;
+/** Step of the five-point second difference (rounding grows like eps/h², so it is larger than for first differences). */
+export const DIFF2_STEP = 1e-3;
 
-/** First derivative of f at x ∈ (0,1) by a central difference whose step never leaves (0,1); NaN at or outside the endpoints. */
+/** First derivative of f at x ∈ (0,1) by a five-point central difference whose stencil never leaves (0,1); NaN at or outside the endpoints. */
 export function diffInUnit(f: (x: number) => number, x: number): number {
   const d = Math.min(x, 1 - x);
   if (!(d > 0)) return NaN;
   const h = Math.min(DIFF_STEP, d * DIFF_ENDPOINT_FRACTION);
-  return (f(x + h) - f(x - h)) / (2 * h);
+  return (f(x - 2 * h) - 8 * f(x - h) + 8 * f(x + h) - f(x + 2 * h)) / (12 * h);
 }
 
-/** Second derivative of f at x ∈ (0,1) by a central second difference staying inside (0,1). */
+/** Second derivative of f at x ∈ (0,1) by a five-point central second difference staying inside (0,1). */
 export function diff2InUnit(f: (x: number) => number, x: number): number {
   const d = Math.min(x, 1 - x);
   if (!(d > 0)) return NaN;
-  const h = Math.min(DIFF2_STEP, d * 1e-2);
-  return (f(x + h) - 2 * f(x) + f(x - h)) / (h * h);
+  const h = Math.min(DIFF2_STEP, d * DIFF_ENDPOINT_FRACTION);
+  return (-f(x - 2 * h) + 16 * f(x - h) - 30 * f(x) + 16 * f(x + h) - f(x + 2 * h)) / (12 * h * h);
 }
+
+/** Step of first differences on the score line (truncation ~h², rounding ~eps/h balance near 1e-6 for O(1) scales; second differences use LINE_STEP2 since rounding grows like eps/h²). */
+export const LINE_STEP = 1e-6;
+/** Step of second differences on the score line. */
+export const LINE_STEP2 = 1e-4;
 
 /** First derivative of f at a real x (score scale), step relative to |x|. */
 export function diffOnLine(f: (x: number) => number, x: number): number {
-  const h = DIFF_STEP * Math.max(1, Math.abs(x));
+  const h = LINE_STEP * Math.max(1, Math.abs(x));
   return (f(x + h) - f(x - h)) / (2 * h);
 }
 
 /** Second derivative of f at a real x (score scale). */
 export function diff2OnLine(f: (x: number) => number, x: number): number {
-  const h = DIFF2_STEP * Math.max(1, Math.abs(x));
+  const h = LINE_STEP2 * Math.max(1, Math.abs(x));
   return (f(x + h) - 2 * f(x) + f(x - h)) / (h * h);
 }
 
@@ -69,10 +80,28 @@ export function tabulationNodes(): number[] {
   return [...new Set(pts)].sort((a, b) => a - b);
 }
 
-/** Quadrature tolerances for one tabulation cell (absolute, relative) and its interval budget. */
+/** Absolute quadrature tolerance of a tabulation cell (cells sum to the partial losses; 1e-13 per cell keeps the total below 1e-10). */
 export const CELL_ABS_TOL = 1e-13;
-export const CELL_REL_TOL = 1e-12;
+/** Relative quadrature tolerance of a tabulation cell (on the Kronrod–Gauss difference, which overstates the Kronrod error by orders of magnitude on smooth cells). */
+export const CELL_REL_TOL = 1e-10;
+/** Subinterval budget of a tabulation cell (discontinuous weights need a few dozen bisections). */
 export const CELL_MAX_INTERVALS = 200;
+
+/** Quadrature nodes closer than this to 1 round to 1 itself (a few ulps of doubles below 1). */
+export const ENDPOINT_ULPS = 4.5e-16;
+
+/**
+ * Wraps an integrand so that a non-finite value at a node that has rounded onto an endpoint (0·∞ for
+ * (1−c)·w(c) at c = 1) counts as 0: such a node carries a width of a few ulps, and an integrable
+ * singularity contributes nothing measurable there.
+ */
+export function endpointSafe(g: (x: number) => number): (x: number) => number {
+  return (x: number) => {
+    const y = g(x);
+    if (Number.isFinite(y)) return y;
+    return x <= 0 || x >= 1 - ENDPOINT_ULPS ? 0 : y;
+  };
+}
 
 /** Outcome of checking one endpoint of a tabulated integral. */
 export interface EndpointStatus {
@@ -102,7 +131,11 @@ export class UnitIntegral {
   /** An interior cell whose integral did not converge (a non-integrable interior singularity), if any. */
   readonly interiorDivergence: number | null;
 
-  constructor(private readonly g: (x: number) => number) {
+  private readonly g: (x: number) => number;
+
+  constructor(integrand: (x: number) => number) {
+    const g = endpointSafe(integrand);
+    this.g = g;
     const nodes = tabulationNodes();
     this.nodes = nodes;
     const n = nodes.length;
@@ -170,7 +203,8 @@ export class UnitIntegral {
     // A divergent far end means the full integral is infinite (the regular-loss case l0(1) = ∞).
     if (q >= 1) return this.tailStatus.finite ? this.cumHead[this.nodes.length - 1]! + this.tailEnd : Infinity;
     const i = this.locate(q);
-    if (i < 0) return this.headStatus.finite ? this.local(0, q) : NaN;
+    // Below the first node, subtract the piece [q, x0] from the endpoint integral (the singular end is already resolved there).
+    if (i < 0) return this.headStatus.finite ? this.headEnd - this.local(q, this.nodes[0]!) : NaN;
     return this.cumHead[i]! + this.local(this.nodes[i]!, q);
   }
 
@@ -183,43 +217,56 @@ export class UnitIntegral {
     }
     const i = this.locate(q);
     if (i < 0) return this.cumTail[0]! + this.local(q, this.nodes[0]!);
-    if (i >= this.nodes.length - 1) return this.tailStatus.finite ? this.local(q, 1) : NaN;
+    if (i >= this.nodes.length - 1) return this.tailStatus.finite ? this.tailEnd - this.local(this.nodes[this.nodes.length - 1]!, q) : NaN;
     return this.cumTail[i + 1]! + this.local(q, this.nodes[i + 1]!);
   }
 }
 
-/** Ratio of the last to the first neighbourhood increment above which an endpoint integral is declared divergent. */
-export const DIVERGENCE_RATIO = 0.5;
+/**
+ * Decade-to-decade ratio of the increments of an endpoint integral above which it is declared divergent:
+ * g ~ x^p gives a ratio 10^-(p+1), so 0.98 separates p = −1 (ratio 1, divergent) from p ≥ −0.991.
+ */
+export const DIVERGENCE_RATIO = 0.98;
+/** Decades resolved explicitly next to 0 (down to 10^-24 times the cell width). */
+export const ENDPOINT_DECADES_AT_ZERO = 12;
 
 /**
- * ∫ g over a cell touching an endpoint of (0,1) ([0, b] or [a, 1]), with a divergence test: for an
- * integrable singularity the integrals over the decades [10^-(k+1), 10^-k] towards the endpoint shrink;
- * for a divergent one (1/x, 1/x²) they stay constant or grow.
+ * ∫ g over a cell touching an endpoint of (0,1) ([0, b] or [a, 1]). The cell is split into decades of the
+ * distance to the endpoint, each integrated separately (smooth there), and the rest is extrapolated from
+ * the geometric decay of the decade increments; increments that do not decay mean divergence (1/x, 1/x²).
+ * Near 1 doubles resolve distances only down to ~1e-16, so the decay is measured on the decades from
+ * 10^-9 to 10^-15 (outside the cell, where g is defined too).
  */
-export function endpointIntegral(g: (x: number) => number, a: number, b: number): { value: number; finite: boolean } {
-  const atZero = a === 0;
-  const r = integrate(g, a, b, CELL_ABS_TOL, CELL_REL_TOL, 4000);
-  const dist = (k: number) => Math.pow(10, -k);
-  // Decade increments towards the endpoint, from 10^-9 down to 10^-21 at 0 and 10^-15 at 1 (the limit of doubles near 1).
+export function endpointIntegral(integrand: (x: number) => number, a: number, b: number): { value: number; finite: boolean } {
+  const g = endpointSafe(integrand);
+  const inc = (lo: number, hi: number) => integrate(g, lo, hi, 0, 1e-10, 200).value;
+  // Signed decade increments ordered towards the endpoint; the last few measure the decay.
   const incs: number[] = [];
-  // The increments may lie outside the cell: g is defined on all of (0,1), and more decades make the test sharper.
-  const startK = 9;
-  const lastK = atZero ? 21 : 15;
-  for (let k = startK; k < lastK; k++) {
-    const lo = atZero ? dist(k + 1) : 1 - dist(k);
-    const hi = atZero ? dist(k) : 1 - dist(k + 1);
-    if (!(hi > lo)) break;
-    incs.push(Math.abs(integrate(g, lo, hi, 0, 1e-8, 200).value));
+  let value = 0;
+  if (a === 0) {
+    for (let k = 0; k < ENDPOINT_DECADES_AT_ZERO; k++) {
+      const v = inc(b * Math.pow(10, -(k + 1)), b * Math.pow(10, -k));
+      incs.push(v);
+      value += v;
+    }
+  } else {
+    const decades = Math.max(0, Math.round(Math.log10((1 - a) / 1e-15)));
+    for (let k = 0; k < decades; k++) {
+      const d = (1 - a) * Math.pow(10, -k);
+      value += inc(1 - d, 1 - d / 10);
+    }
+    for (let k = 9; k < 15; k++) incs.push(inc(1 - Math.pow(10, -k), 1 - Math.pow(10, -(k + 1))));
   }
-  let divergent = !Number.isFinite(r.value);
-  if (!divergent && incs.length >= 2) {
-    const first = incs[0]!;
-    const last = incs[incs.length - 1]!;
-    if (!Number.isFinite(first) || !Number.isFinite(last)) divergent = true;
-    else if (last > 0 && last >= DIVERGENCE_RATIO * first) divergent = true;
-  }
-  if (!divergent && !r.converged && r.error > 1e-6 * (1 + Math.abs(r.value))) divergent = true;
-  return { value: r.value, finite: !divergent };
+  if (!Number.isFinite(value) || !incs.every(Number.isFinite)) return { value: NaN, finite: false };
+  const last = incs[incs.length - 1]!;
+  const ref = Math.abs(incs[incs.length - 6]!);
+  if (last === 0) return { value, finite: true };
+  if (!(ref > 0)) return { value: NaN, finite: false };
+  const rho = Math.pow(Math.abs(last) / ref, 1 / 5);
+  if (!(rho < DIVERGENCE_RATIO)) return { value: NaN, finite: false };
+  // Geometric tail beyond the last resolved decade (exact in the limit for g ~ x^p).
+  value += last * (rho / (1 - rho));
+  return { value, finite: true };
 }
 
 /**

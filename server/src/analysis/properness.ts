@@ -12,11 +12,12 @@
 import type { Claim, Finding, LossFamily, LossFunctions, LossSpec, ParamRange } from "./loss-model.js";
 import { fmt, goldenMin, linspace, probabilityGrid, seededRandom } from "./numeric.js";
 import { deriveLossFunctions, internalError } from "./derive.js";
-import { computeRecovery, type RecoveryMap, type RiskTable } from "./recovery.js";
+import { computeRecovery, minimiseRisk, RECOVERY_ETAS, type RecoveryMap, type RiskTable } from "./recovery.js";
 import { checkCompositeConvexity, checkMarginConvexity } from "./composite.js";
 import { checkMarginCalibration, marginDerivative, safeCall } from "./margin.js";
 import { diffInUnit } from "./numeric-extra.js";
 
+/** Re-exported so callers of `analyseProperness` get the type of `PropernessResult.recovery` from one module. */
 export type { RecoveryMap } from "./recovery.js";
 
 /** A pair (η, q) with L(η, q) < L(η, η), both risks re-evaluated from the closures. */
@@ -27,6 +28,7 @@ export interface Counterexample {
   riskAtQ: number;
 }
 
+/** The outcome of the properness analysis of a loss family (verdict at the defaults). */
 export interface PropernessResult {
   verdict: "strictly-proper" | "proper" | "improper" | "unknown";
   /** Present when improper (null for margin losses without an invertible link, which elicit no q). */
@@ -44,6 +46,7 @@ export interface PropernessResult {
   fns: LossFunctions | null;
 }
 
+/** Options of `analyseProperness`. */
 export interface PropernessOptions {
   /** Time budget for the whole analysis, in milliseconds (default DEFAULT_DEADLINE_MS). */
   deadlineMs?: number;
@@ -55,6 +58,7 @@ export interface PropernessOptions {
 
 /** Default time budget: long enough for two-parameter sweeps on a slow machine, short enough for an editor. */
 export const DEFAULT_DEADLINE_MS = 2000;
+/** Default seed of the random sample points (any fixed value makes runs reproducible). */
 export const DEFAULT_SEED = 20260101;
 /** Uniform part of the scan grid (plus geometric points near both endpoints and seeded random points). */
 export const GRID_RESOLUTION = 200;
@@ -66,8 +70,21 @@ export const SWEEP_RESOLUTION = 100;
  * ~1e-11 relative, so 1e-9 is two orders above noise and still catches gaps of 1e-8 on O(1) losses.
  */
 export const RISK_TOL = 1e-9;
+/**
+ * Tighter gap tolerance for losses whose partial losses are the user's closures evaluated directly
+ * ("partials", "score-partials"): only rounding (~1e-16 relative) separates L(η,q) from its true value.
+ */
+export const RISK_TOL_DIRECT = 1e-10;
+/** Scan grids for Bayes-risk losses without a closed-form H' stop this far from the endpoints, where differences of H lose all accuracy. */
+export const NUMERIC_DERIVATIVE_EDGE_EXPONENT = 5;
+/** Largest variation of l1 and l0 (relative to the loss scale) over an interval on which H counts as affine (l1, l0 are constant there). */
+export const FLAT_VARIATION_TOL = 1e-12;
+/** The same for Bayes-risk losses with a numeric H' (differences of H carry ~1e-10 relative noise). */
+export const FLAT_VARIATION_TOL_NUMERIC = 1e-8;
 /** Relative slope |∂L/∂q| at q = η that triggers a local descent search (central differences are accurate to ~1e-8). */
 export const SLOPE_TOL = 1e-6;
+/** Confirmed slope points collected as evidence once a counterexample is known (more only cost time). */
+export const SLOPE_EVIDENCE_POINTS = 4;
 /** Relative disagreement of the stationarity ratios −l1'/(1−q) and l0'/q reported as a mismatch (well above difference noise). */
 export const STATIONARITY_TOL = 1e-5;
 /** Relative increase of l1 (or decrease of l0) between grid neighbours that counts as a monotonicity failure. */
@@ -82,16 +99,22 @@ export const BAYES_MISMATCH_TOL = 1e-6;
 export const CONCAVITY_TOL = 1e-9;
 /** Largest recovery error over the sampled η for which the posterior-recovery finding is reported. */
 export const RECOVERY_TOL = 1e-6;
+/** A sampled minimiser counts as moved away from η when |q* − η| exceeds this (well above minimiser accuracy ~1e-12). */
+export const RECOVERY_MOVED = 1e-6;
 
 /** The sampled model: a table of the partial losses on the scan grid. */
 interface Table extends RiskTable {
   /** Indices of interior points (0 < q < 1). */
   interior: boolean[];
+  /** Relative gap tolerance for this loss (RISK_TOL or RISK_TOL_DIRECT). */
+  tol: number;
+  /** Relative variation tolerance for flat intervals. */
+  flatTol: number;
 }
 
-function buildGrid(resolution: number, seed: number): number[] {
+function buildGrid(resolution: number, seed: number, edgeExponent = 10): number[] {
   const rnd = seededRandom(seed);
-  const pts = new Set<number>(probabilityGrid(resolution, 10));
+  const pts = new Set<number>(probabilityGrid(resolution, edgeExponent));
   pts.add(0);
   pts.add(1);
   // Seeded random points break any alignment between the grid and kinks or bumps of the loss.
@@ -100,13 +123,94 @@ function buildGrid(resolution: number, seed: number): number[] {
   return [...pts].sort((a, b) => a - b);
 }
 
-function buildTable(fns: LossFunctions, qs: number[]): Table {
+function buildTable(fns: LossFunctions, qs: number[], tol: number, flatTol: number): Table {
   return {
+    tol,
+    flatTol,
     qs,
     l1: qs.map((q) => safeCall(fns.l1, q)),
     l0: qs.map((q) => safeCall(fns.l0, q)),
     interior: qs.map((q) => q > 0 && q < 1),
   };
+}
+
+/** Halvings used to test every grid cell for a jump: a jump keeps its size while smooth deviations shrink by 2^-k. */
+export const JUMP_PROBE_HALVINGS = 10;
+/** A cell holds a jump when its deviation from the neighbours' slope keeps at least this fraction of its size after the probe halvings. */
+export const JUMP_PERSIST_FRACTION = 0.25;
+/** At most this many jumps per partial loss are located and sampled around (piecewise losses have a handful). */
+export const MAX_JUMPS = 16;
+/** Offsets around a located jump at which extra points are sampled (both sides). */
+export const JUMP_OFFSETS: readonly number[] = [1e-10, 1e-7, 1e-5, 1e-4, 1e-3, 2.5e-3];
+
+/**
+ * Locates discontinuities of l1 and l0 inside grid cells and returns extra sample points on both sides
+ * of each, so small jumps between grid points (which make a loss improper right next to the diagonal)
+ * are sampled. The smooth part is predicted from the neighbouring cells' slope; each cell is halved
+ * towards the half that deviates most from that prediction. A jump keeps its deviation at every level,
+ * a smooth change loses it in proportion to the width.
+ */
+function jumpPoints(fns: LossFunctions, t: Table): number[] {
+  const extra: number[] = [];
+  const n = t.qs.length;
+  for (const [vals, f] of [[t.l1, fns.l1], [t.l0, fns.l0]] as const) {
+    const slope = (i: number) => {
+      if (i < 0 || i + 1 >= n || !t.interior[i] || !t.interior[i + 1]) return NaN;
+      return (vals[i + 1]! - vals[i]!) / (t.qs[i + 1]! - t.qs[i]!);
+    };
+    let found = 0;
+    for (let j = 0; j + 1 < n && found < MAX_JUMPS; j++) {
+      if (!t.interior[j] || !t.interior[j + 1]) continue;
+      let lo = t.qs[j]!;
+      let hi = t.qs[j + 1]!;
+      let flo = vals[j]!;
+      let fhi = vals[j + 1]!;
+      if (!Number.isFinite(flo) || !Number.isFinite(fhi)) continue;
+      const sides = [slope(j - 1), slope(j + 1)].filter(Number.isFinite);
+      if (sides.length === 0) continue;
+      const sbar = sides.reduce((x, y) => x + y, 0) / sides.length;
+      const dev = (a: number, b: number, fa: number, fb: number) => Math.abs(fb - fa - sbar * (b - a));
+      const cellDev = dev(lo, hi, flo, fhi);
+      const floor = 1e-12 * (1 + Math.abs(flo) + Math.abs(fhi));
+      if (!(cellDev > floor)) continue;
+      let ok = true;
+      for (let k = 0; k < 60 && hi - lo > 1e-15; k++) {
+        if (k === JUMP_PROBE_HALVINGS && !(dev(lo, hi, flo, fhi) > Math.max(floor, JUMP_PERSIST_FRACTION * cellDev))) {
+          ok = false;
+          break;
+        }
+        const m = 0.5 * (lo + hi);
+        const fm = safeCall(f, m);
+        if (!Number.isFinite(fm)) {
+          ok = false;
+          break;
+        }
+        if (dev(lo, m, flo, fm) >= dev(m, hi, fm, fhi)) {
+          hi = m;
+          fhi = fm;
+        } else {
+          lo = m;
+          flo = fm;
+        }
+      }
+      if (!ok) continue;
+      const c = 0.5 * (lo + hi);
+      found++;
+      extra.push(lo, hi);
+      for (const d of JUMP_OFFSETS) {
+        if (c - d > 0) extra.push(c - d);
+        if (c + d < 1) extra.push(c + d);
+      }
+    }
+  }
+  return extra;
+}
+
+/** The table extended by extra points (merged in order, values evaluated once). */
+function extendTable(fns: LossFunctions, t: Table, extra: number[]): Table {
+  if (extra.length === 0) return t;
+  const qs = [...new Set([...t.qs, ...extra])].sort((a, b) => a - b);
+  return buildTable(fns, qs, t.tol, t.flatTol);
 }
 
 /** Risk from the table, NaN when a needed value is not finite. */
@@ -117,10 +221,10 @@ function tableRisk(t: Table, eta: number, j: number): number {
   return Number.isFinite(r) ? r : NaN;
 }
 
-function riskTol(fns: LossFunctions, eta: number): number {
+function riskTol(fns: LossFunctions, eta: number, rel: number): number {
   const a = eta === 0 ? 0 : Math.abs(eta * safeCall(fns.l1, eta));
   const b = eta === 1 ? 0 : Math.abs((1 - eta) * safeCall(fns.l0, eta));
-  return RISK_TOL * (1 + a + b);
+  return rel * (1 + a + b);
 }
 
 interface NonFinite {
@@ -138,11 +242,11 @@ interface SearchOutcome {
 }
 
 /** Confirms a candidate (η, q) from the closures; returns it as a counterexample when the gap exceeds the tolerance. */
-function confirm(fns: LossFunctions, eta: number, q: number): Counterexample | null {
+function confirm(fns: LossFunctions, eta: number, q: number, rel: number): Counterexample | null {
   const riskAtEta = fns.risk(eta, eta);
   const riskAtQ = fns.risk(eta, q);
   if (!Number.isFinite(riskAtEta) || !Number.isFinite(riskAtQ)) return null;
-  if (riskAtQ < riskAtEta - riskTol(fns, eta)) return { eta, q, riskAtEta, riskAtQ };
+  if (riskAtQ < riskAtEta - riskTol(fns, eta, rel)) return { eta, q, riskAtEta, riskAtQ };
   return null;
 }
 
@@ -195,7 +299,7 @@ function searchCounterexample(fns: LossFunctions, t: Table, deadline: number): S
     if (bestJ < 0) continue;
     const scale = 1 + Math.abs(eta === 0 ? 0 : eta * t.l1[i]!) + Math.abs(eta === 1 ? 0 : (1 - eta) * t.l0[i]!);
     const gap = diag - best;
-    if (gap > RISK_TOL * scale) {
+    if (gap > t.tol * scale) {
       const score = gap / (1 + Math.abs(diag));
       if (cands.length < keep || score > cands[cands.length - 1]!.score) {
         cands.push({ eta, j: bestJ, score });
@@ -213,7 +317,7 @@ function searchCounterexample(fns: LossFunctions, t: Table, deadline: number): S
     const hi = t.qs[Math.min(n - 1, c.j + 1)]!;
     const m = goldenMin((q) => fns.risk(c.eta, q), lo, hi);
     const q = m.fx < fns.risk(c.eta, t.qs[c.j]!) ? m.x : t.qs[c.j]!;
-    consider(confirm(fns, c.eta, q));
+    consider(confirm(fns, c.eta, q, t.tol));
   }
   const slopePoints: number[] = [];
   if (!timedOut) {
@@ -222,6 +326,8 @@ function searchCounterexample(fns: LossFunctions, t: Table, deadline: number): S
         timedOut = true;
         break;
       }
+      // Once the scan has a counterexample, a few confirmed slope points suffice as evidence for the diagnostics.
+      if (counterexample && slopePoints.length >= SLOPE_EVIDENCE_POINTS) break;
       const eta = t.qs[i]!;
       if (!(eta >= 1e-6 && eta <= 1 - 1e-6)) continue;
       const d1 = safeCall(fns.dl1, eta);
@@ -234,7 +340,7 @@ function searchCounterexample(fns: LossFunctions, t: Table, deadline: number): S
       const r = Math.min(0.05, eta, 1 - eta);
       const [lo, hi] = s < 0 ? [eta, Math.min(1, eta + r)] : [Math.max(0, eta - r), eta];
       const m = goldenMin((q) => fns.risk(eta, q), lo, hi);
-      const c = confirm(fns, eta, m.x);
+      const c = confirm(fns, eta, m.x, t.tol);
       if (c) {
         slopePoints.push(eta);
         consider(c);
@@ -305,7 +411,8 @@ function stationarityFinding(fns: LossFunctions, t: Table, form: LossSpec["form"
     return rel > STATIONARITY_TOL ? { q, r1, r0 } : null;
   };
   let pick: { q: number; r1: number; r0: number } | null = null;
-  const sortedHints = [...hint].sort((a, b) => Math.abs(a - nearEta) - Math.abs(b - nearEta));
+  const inner = hint.filter((q) => q >= 0.01 && q <= 0.99);
+  const sortedHints = (inner.length > 0 ? inner : hint).sort((a, b) => Math.abs(a - nearEta) - Math.abs(b - nearEta));
   for (const q of sortedHints) {
     pick = ratios(q);
     if (pick) break;
@@ -458,6 +565,7 @@ function findFlatIntervals(fns: LossFunctions, t: Table): FlatRun[] {
     }
   }
   const tol = FLAT_WEIGHT_TOL * scale;
+  const varTol = t.flatTol * Math.max(scale, 1e-300);
   const regret = (eta: number, q: number) => fns.risk(eta, q) - fns.risk(eta, eta);
   const flatBetween = (a: number, b: number) => {
     if (!(b > a)) return true;
@@ -473,7 +581,11 @@ function findFlatIntervals(fns: LossFunctions, t: Table): FlatRun[] {
     const rbb = tableRisk(t, b, j + 1);
     const rba = tableRisk(t, b, j);
     const r = Math.max(rab - raa, rba - rbb);
-    cellFlat.push(Number.isFinite(r) && (2 * r) / ((b - a) * (b - a)) <= tol);
+    // On an affine stretch of H the partial losses are constant (l1' = −(1−q)w = 0), which separates w ≡ 0 from a merely small w.
+    const v1 = Math.abs(t.l1[j + 1]! - t.l1[j]!);
+    const v0 = Math.abs(t.l0[j + 1]! - t.l0[j]!);
+    const constant = v1 <= varTol && v0 <= varTol;
+    cellFlat.push(Number.isFinite(r) && (2 * r) / ((b - a) * (b - a)) <= tol && constant);
   }
   const runs: FlatRun[] = [];
   let j = 0;
@@ -486,7 +598,15 @@ function findFlatIntervals(fns: LossFunctions, t: Table): FlatRun[] {
     while (k + 1 < cellFlat.length && cellFlat[k + 1]) k++;
     let a = t.qs[j]!;
     let b = t.qs[k + 1]!;
-    if (b - a >= FLAT_MIN_WIDTH && flatBetween(a, b)) {
+    let lo1 = Infinity, hi1 = -Infinity, lo0 = Infinity, hi0 = -Infinity;
+    for (let i = j; i <= k + 1; i++) {
+      lo1 = Math.min(lo1, t.l1[i]!);
+      hi1 = Math.max(hi1, t.l1[i]!);
+      lo0 = Math.min(lo0, t.l0[i]!);
+      hi0 = Math.max(hi0, t.l0[i]!);
+    }
+    const drift = Math.max(hi1 - lo1, hi0 - lo0) <= varTol;
+    if (b - a >= FLAT_MIN_WIDTH && drift && flatBetween(a, b)) {
       // Refine the ends towards the neighbouring (non-flat) cells.
       if (j > 0) {
         let lo = t.qs[j - 1]!;
@@ -508,7 +628,9 @@ function findFlatIntervals(fns: LossFunctions, t: Table): FlatRun[] {
         }
         b = lo;
       }
-      runs.push({ a: Number(a.toPrecision(10)), b: Number(b.toPrecision(10)) });
+      // Ends refined to within 1e-9 of 0 or 1 are the endpoints themselves (the bisection cannot reach them exactly when a value there is infinite).
+      const snap = (x: number) => (x < 1e-9 ? 0 : x > 1 - 1e-9 ? 1 : Number(x.toPrecision(10)));
+      runs.push({ a: snap(a), b: snap(b) });
     }
     j = k + 1;
   }
@@ -558,7 +680,17 @@ function analyseSpec(spec: LossSpec, deadline: number, seed: number, resolution:
     // notation.md: a margin loss without an invertible link is improper (it elicits no probability).
     return { ...base, verdict: "improper", findings, fns };
   }
-  const table = buildTable(fns, buildGrid(resolution, seed));
+  const numericH = spec.form === "bayes" && !spec.dbayes;
+  const direct = spec.form === "partials" || spec.form === "score-partials";
+  const coarse = buildTable(
+    fns,
+    buildGrid(resolution, seed, numericH ? NUMERIC_DERIVATIVE_EDGE_EXPONENT : 10),
+    direct ? RISK_TOL_DIRECT : RISK_TOL,
+    numericH ? FLAT_VARIATION_TOL_NUMERIC : FLAT_VARIATION_TOL,
+  );
+  // Weight-form partial losses are integrals (continuous) and margin ones are costly to probe; jumps are sought in the others.
+  const probeJumps = spec.form === "partials" || spec.form === "score-partials" || spec.form === "bayes";
+  const table = probeJumps ? extendTable(fns, coarse, jumpPoints(fns, coarse)) : coarse;
   const s = searchCounterexample(fns, table, deadline);
   const clauseOf = (which: "l1" | "l0") => (spec.form === "partials" || spec.form === "score-partials" ? which : primaryClause(spec.form));
   if (s.nonFinite) {
@@ -712,11 +844,15 @@ function describeSweep(s: Sweep1D): string {
     const prev = runs[i - 1];
     const next = runs[i + 1];
     // A neighbouring single-point run at an end makes this bound strict ("g > 0"); otherwise it is a refined boundary.
-    const left = prev && isPoint(prev) ? `${name} > ${fmtParam(lo)}` : near(r.from, lo) ? null : `${name} ≥ ${fmtParam(r.from)}`;
-    const right = next && isPoint(next) ? `${name} < ${fmtParam(hi)}` : near(r.to, hi) ? null : `${name} ≤ ${fmtParam(r.to)}`;
-    if (!left && !right) parts.push(`${r.status} for all ${name} in [${fmtParam(lo)}, ${fmtParam(hi)}]`);
-    else if (left && right) parts.push(`${r.status} for ${left} and ${right}`);
-    else parts.push(`${r.status} for ${left ?? right}`);
+    const strictLeft = !!prev && isPoint(prev);
+    const strictRight = !!next && isPoint(next);
+    const leftAt = strictLeft ? lo : near(r.from, lo) ? null : r.from;
+    const rightAt = strictRight ? hi : near(r.to, hi) ? null : r.to;
+    if (leftAt === null && rightAt === null) parts.push(`${r.status} for all ${name} in [${fmtParam(lo)}, ${fmtParam(hi)}]`);
+    else if (leftAt !== null && rightAt !== null)
+      parts.push(`${r.status} for ${fmtParam(leftAt)} ${strictLeft ? "<" : "≤"} ${name} ${strictRight ? "<" : "≤"} ${fmtParam(rightAt)}`);
+    else if (leftAt !== null) parts.push(`${r.status} for ${name} ${strictLeft ? ">" : "≥"} ${fmtParam(leftAt)}`);
+    else parts.push(`${r.status} for ${name} ${strictRight ? "<" : "≤"} ${fmtParam(rightAt!)}`);
   });
   const order: Status[] = ["improper", "proper", "unknown"];
   const sorted = parts.map((t, i) => ({ t, s: runs[i]!.status })).sort((a, b) => order.indexOf(a.s) - order.indexOf(b.s));
@@ -852,17 +988,27 @@ export function analyseProperness(family: LossFamily, options: PropernessOptions
       findings: core.findings,
       fns: core.fns,
     };
-    const fns = core.fns;
+    let fns = core.fns;
+    if (fns && (core.verdict === "proper" || core.verdict === "strictly-proper")) {
+      // For a loss found proper the Bayes risk is L(η, η); this replaces the per-point minimisation, which callers evaluating H densely would pay for.
+      const risk = fns.risk;
+      fns = { ...fns, bayes: (eta: number) => risk(eta, eta), notes: [...fns.notes, "H(η) = L(η, η), since the loss was found proper."] };
+      result.fns = fns;
+    }
     if (fns && fns.link && spec.form !== "margin") {
       const conv = checkCompositeConvexity(fns, core.verdict === "strictly-proper", spec.d2link ?? null);
       result.findings.push(...conv.findings);
     }
     if (fns && core.verdict === "improper" && core.counterexample && core.table) {
-      const rec = computeRecovery(fns, undefined, core.table);
+      const table = core.table;
+      // The minimiser curve is sampled for every improper loss (also when it sits at the endpoints and no recovery exists).
+      result.minimiser = { etas: [...RECOVERY_ETAS], qs: RECOVERY_ETAS.map((eta) => minimiseRisk(fns!, eta, table).q) };
+      const rec = computeRecovery(fns, RECOVERY_ETAS, table, result.minimiser.qs);
       if (rec) {
-        result.minimiser = { etas: rec.samples.map((s) => s.eta), qs: rec.samples.map((s) => s.qStar) };
         result.recovery = rec.monotone ? rec : null;
-        if (rec.monotone && rec.maxError <= RECOVERY_TOL) {
+        // Recovery is only news when the minimiser moves away from η on most samples (not for a loss broken on a small set).
+        const moved = rec.samples.filter((x) => Math.abs(x.qStar - x.eta) > RECOVERY_MOVED).length;
+        if (rec.monotone && rec.maxError <= RECOVERY_TOL && 2 * moved > rec.samples.length) {
           result.findings.push({
             code: "posterior-recovery",
             clause: "loss",

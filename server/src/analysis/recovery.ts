@@ -90,12 +90,28 @@ export function recoveryMap(fns: LossFunctions): RealFn {
 export const RECOVERY_ETAS: readonly number[] = [0.02, 0.05, 0.1, 0.15, 0.2, 0.25, 0.3, 0.35, 0.4, 0.45, 0.5, 0.55, 0.6, 0.65, 0.7, 0.75, 0.8, 0.85, 0.9, 0.95, 0.98];
 
 /**
- * Samples q*(η), checks monotonicity, and measures how well the recovery map returns η. Returns null
+ * Samples q*(η) (or reuses `minimisers`, given for the same `etas`), checks monotonicity, and measures how well the recovery map returns η. Returns null
  * when the minimisers sit at the endpoints (the map is then undefined) or the derivatives are not finite.
  */
-export function computeRecovery(fns: LossFunctions, etas: readonly number[] = RECOVERY_ETAS, table?: RiskTable): RecoveryMap | null {
+export function computeRecovery(
+  fns: LossFunctions,
+  etas: readonly number[] = RECOVERY_ETAS,
+  table?: RiskTable,
+  minimisers?: readonly number[],
+): RecoveryMap | null {
+  try {
+    return sampleRecovery(fns, etas, table, minimisers);
+  } catch {
+    // A failure inside a user closure means the map cannot be verified; callers treat null as "no recovery".
+    return null;
+  }
+}
+
+function sampleRecovery(fns: LossFunctions, etas: readonly number[], table?: RiskTable, minimisers?: readonly number[]): RecoveryMap | null {
   const map = recoveryMap(fns);
-  const samples = etas.map((eta) => ({ eta, qStar: minimiseRisk(fns, eta, table).q }));
+  // Minimisers already sampled by the caller (same η, same order) are reused.
+  const given = minimisers && minimisers.length === etas.length ? minimisers : null;
+  const samples = etas.map((eta, i) => ({ eta, qStar: given ? given[i]! : minimiseRisk(fns, eta, table).q }));
   let monotone = true;
   for (let i = 0; i + 1 < samples.length; i++) if (!(samples[i + 1]!.qStar > samples[i]!.qStar)) monotone = false;
   let maxError = 0;

@@ -9,6 +9,7 @@ import * as path from "node:path";
 import { parseArgs } from "node:util";
 import { analyseDocument, type DocumentAnalysis } from "../service/document.js";
 import { toJsonFile, toSarif, toTextLines } from "../service/check-report.js";
+import { runGen } from "./gen.js";
 
 export const VERSION = "0.1.0";
 
@@ -42,6 +43,7 @@ const HELP = `propriety ${VERSION} — check classification losses written in th
 
 Usage:
   propriety check [--json | --sarif] FILE|DIR…   check properness, curvature and claims
+  propriety gen --target torch|jax|numpy|ts FILE  generate training code (see 'propriety gen --help')
   propriety --help | --version
 
 check:
@@ -68,6 +70,8 @@ export async function main(argv: string[], io: CliIo = nodeIo): Promise<number> 
     switch (command) {
       case "check":
         return runCheck(rest, io);
+      case "gen":
+        return runGen(rest, io);
       default:
         throw new UsageError(`unknown command '${command}'`);
     }

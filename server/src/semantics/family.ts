@@ -87,7 +87,9 @@ export function compileLoss(model: SemanticModel, loss: LossInfo): CompiledLoss 
     instantiate(values: Record<string, number>): LossSpec {
       const p = new Float64Array(paramNames.length);
       paramNames.forEach((n, i) => {
-        p[i] = values[n] ?? params[i]!.default;
+        // Own properties only: `values.constructor` or `values.__proto__` of a plain object are inherited
+        // members, not values, and would make a parameter of that name NaN.
+        p[i] = (Object.prototype.hasOwnProperty.call(values, n) ? values[n] : undefined) ?? params[i]!.default;
       });
       const bind = (c: Compiled | null | undefined): RealFn | undefined => (c ? (x: number) => c(x, p) : undefined);
       const threshold = compiled.threshold ? compiled.threshold.f(NaN, p) : DEFAULT_THRESHOLD;

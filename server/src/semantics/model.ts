@@ -9,7 +9,7 @@ import { makeIssue, type Issue, type Span } from "../issue.js";
 import type { DefDecl, DefineClause, ExpectClause, Expr, FileNode, LossDecl, ParamDecl } from "../syntax/ast.js";
 import { forEachExpr } from "../syntax/ast.js";
 import { BUILTINS, CONSTANTS } from "./builtins.js";
-import { evalConstant, isCondition } from "./compile.js";
+import { compileExpr, evalConstant, isCondition } from "./compile.js";
 import { suggest } from "./suggest.js";
 
 export type ClauseName = "l1" | "l0" | "bayes" | "weight" | "margin" | "link" | "inverse" | "threshold";
@@ -112,6 +112,7 @@ class Resolver {
   private readonly globals = new Map<string, ParamInfo>();
   private readonly defs = new Map<string, DefInfo>();
   private readonly losses: LossInfo[] = [];
+  private readonly duplicateLosses = new Set<LossDecl>();
 
   constructor(private readonly ast: FileNode) {}
 
@@ -120,6 +121,8 @@ class Resolver {
     const lossNames = new Map<string, Span>();
     for (const item of this.ast.items) {
       if (item.kind === "loss") {
+        // A second loss of the same name is not analysed: its report could not be told from the first's.
+        if (lossNames.has(item.name.name)) this.duplicateLosses.add(item);
         this.declareUnique(lossNames, item.name.name, item.name.span, "loss");
         continue;
       }
@@ -439,7 +442,9 @@ class Resolver {
     const depErrors = [...info.usedDefs].some((d) => this.defs.get(d)?.hasErrors) ||
       info.usedGlobals.some((g) => this.globals.get(g)?.value === null) ||
       [...info.localParams.values()].some((p) => p.value === null);
-    info.hasErrors = ownErrors || depErrors;
+    // A clause the parser left incomplete (its error is a parse issue, not a semantic one) cannot be compiled.
+    const holes = [...info.clauses.values()].some((c) => !c.canonical && hasHole(c.value));
+    info.hasErrors = ownErrors || depErrors || holes || this.duplicateLosses.has(decl);
     return info;
   }
 
@@ -471,11 +476,36 @@ class Resolver {
     }
     if (clause.variable) this.references.push({ span: clause.variable.span, target: { kind: "variable", name: clause.variable.name }, isDeclaration: true });
     const other = variable === "q" ? "v" : variable === "v" ? "q" : null;
-    this.resolveExpr(clause.value, { variable, otherVariable: variable === null ? null : other, locals, loss: info }, used);
-    if (name === "threshold" && clause.value) {
+    const resolved = this.resolveExpr(clause.value, { variable, otherVariable: variable === null ? null : other, locals, loss: info }, used);
+    if (name === "threshold" && clause.value && resolved) {
       // Checked at the defaults here; across ranges by the engine.
-      const c = clause.value.kind === "number" ? clause.value.value : null;
-      if (c !== null && !(c > 0 && c < 1)) this.error("threshold-out-of-range", `the threshold must lie strictly between 0 and 1; it is ${c}`, clause.value.span);
+      // Any constant expression counts (`-0.25`, `(1.5)`, `pi/4`); one that uses parameters yields null.
+      const c = evalConstant(clause.value);
+      if (c !== null && !(c > 0 && c < 1)) {
+        this.error("threshold-out-of-range", `the threshold must lie strictly between 0 and 1; it is ${c}`, clause.value.span);
+      } else if (c === null) {
+        const d = this.atDefaults(clause.value, info);
+        if (d !== null && !(d > 0 && d < 1)) {
+          this.error("threshold-out-of-range", `the threshold must lie strictly between 0 and 1; at the parameter defaults it is ${d}`, clause.value.span);
+        }
+      }
+    }
+  }
+
+  /** Evaluates a parameter expression at the defaults (loss-local parameters hide globals); null when it cannot. */
+  private atDefaults(e: Expr, info: LossInfo): number | null {
+    const names: string[] = [];
+    const values: number[] = [];
+    for (const [n, p] of [...info.localParams, ...[...this.globals].filter(([g]) => !info.localParams.has(g))]) {
+      if (p.value === null) continue;
+      names.push(n);
+      values.push(p.value);
+    }
+    try {
+      const f = compileExpr(e, { variable: null, paramSlots: new Map(names.map((n, i) => [n, i])), defs: new Map() });
+      return f(NaN, Float64Array.from(values));
+    } catch {
+      return null;
     }
   }
 
@@ -506,6 +536,8 @@ class Resolver {
     if (has("weight")) forms.push({ form: "weight", span: info.clauses.get("weight")!.name.span });
     if (has("margin")) forms.push({ form: "margin", span: info.clauses.get("margin")!.name.span });
     if (forms.length === 0 && has("bayes")) forms.push({ form: "bayes", span: info.clauses.get("bayes")!.name.span });
+    // The form written first is the loss's; each later one is reported against it.
+    forms.sort((a, b) => a.span.start - b.span.start);
     if (forms.length === 0) {
       this.error("missing-primary-form", `the loss \`${info.name}\` has no definition: give \`l1\` and \`l0\`, \`bayes\`, \`weight\` or \`margin\``, info.decl.name.span);
       return;
@@ -549,6 +581,16 @@ class Resolver {
       }
     }
   }
+}
+
+/** True when an expression is missing or contains a hole left by error recovery. */
+function hasHole(e: Expr | null): boolean {
+  if (!e) return true;
+  let found = false;
+  forEachExpr(e, (x) => {
+    if (x.kind === "error") found = true;
+  });
+  return found;
 }
 
 export function describeForm(form: DefinitionForm): string {

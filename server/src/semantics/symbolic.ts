@@ -117,7 +117,10 @@ function d(e: Expr, x: string): Expr {
         case "+": return bin("+", d(u, x), d(v, x));
         case "-": return bin("-", d(u, x), d(v, x));
         case "*": return bin("+", bin("*", d(u, x), v), bin("*", u, d(v, x)));
-        case "/": return bin("/", bin("-", bin("*", d(u, x), v), bin("*", u, d(v, x))), bin("^", v, num(2)));
+        case "/":
+          // A constant denominator keeps its place: (u/c)' = u'/c reads better than the quotient rule's (u'c − 0)/c².
+          if (!dependsOn(v, x)) return bin("/", d(u, x), v);
+          return bin("/", bin("-", bin("*", d(u, x), v), bin("*", u, d(v, x))), bin("^", v, num(2)));
         case "^": return dPow(u, v, x);
         default: throw new NotDifferentiable("a condition has no derivative");
       }
@@ -290,7 +293,9 @@ export function printExpr(e: Expr): string {
 function p(e: Expr, ctx: number): string {
   switch (e.kind) {
     case "number":
-      return e.text;
+      // A negative number (made by constant folding) reads like a unary minus, so it needs the same
+      // brackets: `(-2)^q`, not `-2^q`, which means `-(2^q)`.
+      return e.value < 0 && ctx > 7 ? `(${e.text})` : e.text;
     case "name":
       return e.name;
     case "paren":
@@ -306,7 +311,8 @@ function p(e: Expr, ctx: number): string {
       const prec = PREC[e.op]!;
       const rightAssoc = e.op === "^";
       const left = p(e.left, rightAssoc ? prec + 1 : prec);
-      const right = p(e.right, rightAssoc ? (e.right.kind === "unary" ? 7 : prec) : prec + 1);
+      const signed = e.right.kind === "unary" || (e.right.kind === "number" && e.right.value < 0);
+      const right = p(e.right, rightAssoc ? (signed ? 7 : prec) : prec + 1);
       const s = e.op === "^" ? `${left}^${right}` : `${left} ${e.op} ${right}`;
       return prec < ctx ? `(${s})` : s;
     }

@@ -38,7 +38,11 @@ export class LineIndex {
     if (pos.line < 0) return 0;
     if (pos.line >= this.starts.length) return this.text.length;
     const start = this.starts[pos.line]!;
-    const end = pos.line + 1 < this.starts.length ? this.starts[pos.line + 1]! : this.text.length;
+    let end = pos.line + 1 < this.starts.length ? this.starts[pos.line + 1]! : this.text.length;
+    // A character past the line's end means the end of its text, before the line break (as in LSP), not
+    // the start of the next line.
+    if (end > start && this.text.charCodeAt(end - 1) === 10) end--;
+    if (end > start && this.text.charCodeAt(end - 1) === 13) end--;
     return Math.max(start, Math.min(start + Math.max(0, pos.character), end));
   }
 

@@ -11,7 +11,6 @@
  *
  * Pure: no file system, no editor types. Only issue-free text is formatted; see {@link formatDocument}.
  */
-import { lossLexer } from "../../../grammar/tokens.js";
 import { parse } from "./parse.js";
 import type { BinaryOp, Clause, CommentToken, DefDecl, Expr, FileNode, Item, LossDecl, ParamDecl } from "./ast.js";
 
@@ -73,6 +72,8 @@ const NOT_PREC = 3;
 const SIGN_PREC = 7;
 const ATOM_PREC = 9;
 
+type BinaryExpr = Extract<Expr, { kind: "binary" }>;
+
 function precOf(e: Expr): number {
   if (e.kind === "binary") return BINARY_PREC[e.op];
   if (e.kind === "unary") return e.op === "not" ? NOT_PREC : SIGN_PREC;
@@ -109,30 +110,32 @@ function joinFrags(frags: readonly Frag[]): string {
   return s;
 }
 
-/** Start offsets of the non-comment tokens of the source, for finding operators between AST nodes. */
+/** Whitespace as the lexer skips it. */
+const SKIPPED = /[ \t\r\n\f\v\u00a0\ufeff]/;
+
+/**
+ * Finds the source offsets of tokens the AST does not record (operators, brackets, keywords) by looking
+ * just past the node before them. Scanning the text, rather than lexing it again, keeps formatting
+ * linear and cheap.
+ */
 class TokenIndex {
-  private readonly starts: number[];
-  private readonly images: string[];
+  constructor(private readonly text: string) {}
 
-  constructor(text: string) {
-    const tokens = text === "" ? [] : lossLexer.tokenize(text).tokens;
-    this.starts = tokens.map((t) => t.startOffset);
-    this.images = tokens.map((t) => t.image);
-  }
-
-  /** Offset of the first token starting at or after `offset` whose image is `image`, or -1. */
+  /**
+   * Offset of `image` when it is the next token at or after `offset` (skipping whitespace and comments),
+   * else -1. A miss only affects where a comment is placed, never what is printed.
+   */
   find(offset: number, image: string): number {
-    let lo = 0;
-    let hi = this.starts.length;
-    while (lo < hi) {
-      const mid = (lo + hi) >> 1;
-      if (this.starts[mid]! < offset) lo = mid + 1;
-      else hi = mid;
+    const t = this.text;
+    let i = Math.max(0, offset);
+    while (i < t.length) {
+      const ch = t[i]!;
+      if (SKIPPED.test(ch)) i++;
+      else if (ch === "#") {
+        while (i < t.length && t[i] !== "\n" && t[i] !== "\r") i++;
+      } else break;
     }
-    // The wanted token is normally the very next one; a short bounded scan tolerates hand-built ASTs.
-    for (let i = lo; i < Math.min(this.starts.length, lo + 4); i++) {
-      if (this.images[i] === image || (image === "-" && this.images[i] === "\u2212")) return this.starts[i]!;
-    }
+    if (t.startsWith(image, i) || (image === "-" && t[i] === "\u2212")) return i;
     return -1;
   }
 }
@@ -174,7 +177,9 @@ class ExprPrinter {
       case "call": {
         this.push(e.callee, e.calleeSpan.start, space);
         let cursor = e.calleeSpan.end;
-        this.push("(", this.tokens.find(cursor, "("), false);
+        const open = this.tokens.find(cursor, "(");
+        if (open >= 0) cursor = open + 1;
+        this.push("(", open, false);
         e.args.forEach((a, i) => {
           if (i > 0) this.push(",", this.tokens.find(cursor, ","), false);
           this.print(a, i > 0, 0, false);
@@ -189,11 +194,20 @@ class ExprPrinter {
         this.print(e.operand, e.op === "not", e.op === "not" ? NOT_PREC : SIGN_PREC, tail);
         return;
       case "binary": {
-        const need = operandPrec(e.op);
-        const tight = e.op === "^";
-        this.print(e.left, space, need.left, true);
-        this.push(e.op, this.tokens.find(e.left.span.end, e.op), !tight);
-        this.print(e.right, !tight, need.right, tail);
+        // Walk the left spine without recursion: a flat sum of n terms is a left-deep tree n levels deep.
+        const spine: BinaryExpr[] = [e];
+        let leftmost: Expr = e.left;
+        while (leftmost.kind === "binary" && precOf(leftmost) >= operandPrec(spine[spine.length - 1]!.op).left) {
+          spine.push(leftmost);
+          leftmost = leftmost.left;
+        }
+        this.print(leftmost, space, operandPrec(spine[spine.length - 1]!.op).left, true);
+        for (let j = spine.length - 1; j >= 0; j--) {
+          const b = spine[j]!;
+          const tight = b.op === "^";
+          this.push(b.op, this.tokens.find(b.left.span.end, b.op), !tight);
+          this.print(b.right, !tight, operandPrec(b.op).right, j === 0 ? tail : true);
+        }
         return;
       }
       case "if":
@@ -313,7 +327,7 @@ class FilePrinter {
       const r = p.range;
       const inPos = this.tokens.find(p.value?.span.end ?? p.name.span.end, "in");
       unit.frags.push({ text: "in", pos: inPos, space: true });
-      unit.frags.push({ text: "[", pos: this.tokens.find(Math.max(inPos, r.span.start), "["), space: true });
+      unit.frags.push({ text: "[", pos: this.tokens.find(inPos >= 0 ? inPos + 2 : r.span.start, "["), space: true });
       if (r.lo) exprs.print(r.lo, false, 0, false);
       unit.frags.push({ text: ",", pos: this.tokens.find(r.lo?.span.end ?? r.span.start, ","), space: false });
       if (r.hi) exprs.print(r.hi, true, 0, false);
@@ -326,7 +340,9 @@ class FilePrinter {
     unit.frags.push({ text: "def", pos: d.span.start, space: false });
     unit.frags.push({ text: d.name.name, pos: d.name.span.start, space: true });
     let cursor = d.name.span.end;
-    unit.frags.push({ text: "(", pos: this.tokens.find(cursor, "("), space: false });
+    const open = this.tokens.find(cursor, "(");
+    if (open >= 0) cursor = open + 1;
+    unit.frags.push({ text: "(", pos: open, space: false });
     d.params.forEach((p, i) => {
       if (i > 0) unit.frags.push({ text: ",", pos: this.tokens.find(cursor, ","), space: false });
       unit.frags.push({ text: p.name, pos: p.span.start, space: i > 0 });
@@ -334,7 +350,7 @@ class FilePrinter {
     });
     const close = this.tokens.find(cursor, ")");
     unit.frags.push({ text: ")", pos: close, space: false });
-    unit.frags.push({ text: "=", pos: this.tokens.find(Math.max(cursor, close), "="), space: true });
+    unit.frags.push({ text: "=", pos: this.tokens.find(close >= 0 ? close + 1 : cursor, "="), space: true });
     if (d.body) exprs.print(d.body, true, 0, false);
     this.finish(unit, d.span.end);
   }
@@ -347,8 +363,8 @@ class FilePrinter {
     let cursor = l.name.span.end;
     // `loss x() {` keeps its empty parentheses: the formatter never drops tokens.
     const open = this.tokens.find(cursor, "(");
-    const brace = this.tokens.find(cursor, "{");
-    if (l.params.length > 0 || (open >= 0 && (brace < 0 || open < brace))) {
+    if (l.params.length > 0 || open >= 0) {
+      if (open >= 0) cursor = open + 1;
       frags.push({ text: "(", pos: open, space: false });
       l.params.forEach((p, i) => {
         if (i > 0) frags.push({ text: ",", pos: this.tokens.find(cursor, ","), space: false });
@@ -357,7 +373,7 @@ class FilePrinter {
       });
       const close = this.tokens.find(cursor, ")");
       frags.push({ text: ")", pos: close, space: false });
-      cursor = Math.max(cursor, close);
+      if (close >= 0) cursor = close + 1;
     }
     const lbrace = this.tokens.find(cursor, "{");
     frags.push({ text: "{", pos: lbrace, space: true });
@@ -387,11 +403,11 @@ class FilePrinter {
         cursor = c.variable.span.end;
         const close = this.tokens.find(cursor, ")");
         unit.frags.push({ text: ")", pos: close, space: false });
-        cursor = Math.max(cursor, close);
+        if (close >= 0) cursor = close + 1;
       }
       const eq = this.tokens.find(cursor, "=");
       unit.frags.push({ text: "=", pos: eq, space: true });
-      if (c.canonical) unit.frags.push({ text: "canonical", pos: this.tokens.find(Math.max(cursor, eq), "canonical"), space: true });
+      if (c.canonical) unit.frags.push({ text: "canonical", pos: this.tokens.find(eq >= 0 ? eq + 1 : cursor, "canonical"), space: true });
       else if (c.value) exprs.print(c.value, true, 0, false);
     }
     this.finish(unit, c.span.end);
@@ -399,10 +415,14 @@ class FilePrinter {
 
   // --- Comments.
 
+  /** True when only whitespace precedes the comment on its line. */
   private isOwnLine(c: CommentToken): boolean {
-    const before = this.text.slice(0, c.span.start);
-    const lineStart = Math.max(before.lastIndexOf("\n"), before.lastIndexOf("\r")) + 1;
-    return before.slice(lineStart).trim() === "";
+    for (let i = c.span.start - 1; i >= 0; i--) {
+      const ch = this.text[i]!;
+      if (ch === "\n" || ch === "\r") return true;
+      if (!SKIPPED.test(ch)) return false;
+    }
+    return true;
   }
 
   /** Assigns every comment to the unit it sits in, as a unit's trailing comment, or to a gap; returns the gaps. */
@@ -411,16 +431,24 @@ class FilePrinter {
     for (let i = 0; i <= this.units.length; i++) gaps.push({ ...this.gapKind(i), comments: [] });
     const comments = [...this.ast.comments].sort((a, b) => a.span.start - b.span.start);
     let u = 0;
+    // Index of the last fragment of unit `u` known to start before the current comment; comments come
+    // in source order, so one forward scan per unit suffices.
+    let after = 0;
     for (const c of comments) {
       // Advance to the first unit that ends after the comment starts.
-      while (u < this.units.length && this.units[u]!.end <= c.span.start) u++;
+      while (u < this.units.length && this.units[u]!.end <= c.span.start) {
+        u++;
+        after = 0;
+      }
       const unit = this.units[u];
       const first = unit ? firstPos(unit) : -1;
       if (unit && first >= 0 && first < c.span.start) {
-        let after = 0;
-        unit.frags.forEach((f, i) => {
-          if (f.pos >= 0 && f.pos < c.span.start) after = i;
-        });
+        for (let i = after + 1; i < unit.frags.length; i++) {
+          const pos = unit.frags[i]!.pos;
+          if (pos < 0) continue;
+          if (pos >= c.span.start) break;
+          after = i;
+        }
         unit.inner.push({ after, comment: c, ownLine: this.isOwnLine(c) });
         continue;
       }
@@ -485,11 +513,13 @@ class FilePrinter {
     const cont = this.indentOf(u.level + 2);
     let line = ind;
     let fresh = true;
+    // Inner comments are in source order, hence sorted by the fragment they follow.
+    let next = 0;
     u.frags.forEach((f, i) => {
       line += (f.space && !fresh ? " " : "") + f.text;
       fresh = false;
-      for (const c of u.inner) {
-        if (c.after !== i) continue;
+      for (; next < u.inner.length && u.inner[next]!.after === i; next++) {
+        const c = u.inner[next]!;
         if (c.ownLine) {
           if (!fresh) lines.push(line);
           lines.push(cont + c.comment.text);
@@ -500,8 +530,9 @@ class FilePrinter {
         fresh = true;
       }
     });
-    if (u.trailing) line += "  " + u.trailing.text;
-    lines.push(line);
+    // A unit whose last fragment is followed by an inner comment has already broken its line.
+    if (u.trailing) lines.push(fresh ? cont + u.trailing.text : line + "  " + u.trailing.text);
+    else if (!fresh) lines.push(line);
   }
 }
 

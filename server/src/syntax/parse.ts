@@ -13,6 +13,12 @@ import type {
 
 /** Deepest expression nesting accepted; far beyond any real loss, well inside the JS stack. */
 export const MAX_NESTING = 100;
+/**
+ * Most binary operators in one expression. A chain of `+` builds a left-leaning tree as deep as the chain is
+ * long, and the recursive tree walkers (compiler, derivatives) would overflow on tens of thousands; real
+ * losses have tens of terms.
+ */
+export const MAX_OPERATORS = 2000;
 /** Largest document analysed, in UTF-16 code units (a loss file is a few kB; this guards editors against huge pastes). */
 export const MAX_TEXT_LENGTH = 8_000_000;
 /** Lexer errors reported individually before the rest are summarised (binary garbage yields thousands). */
@@ -66,7 +72,8 @@ function parseUnguarded(text: string): ParseResult {
     }
     const deep = tooDeep(chunk);
     if (deep) {
-      issues.push(makeIssue("parse-too-deep", `this expression nests more than ${MAX_NESTING} levels deep; the item is skipped`, tokenSpan(deep)));
+      const why = deep.reason === "nesting" ? `nests more than ${MAX_NESTING} levels deep` : `has more than ${MAX_OPERATORS} operators`;
+      issues.push(makeIssue("parse-too-deep", `this expression ${why}; the item is skipped`, tokenSpan(deep.token)));
       return;
     }
     lossParser.input = chunk;
@@ -103,7 +110,7 @@ const RULE_EXPECTATION: Record<string, string> = {
   file: "`param`, `def` or `loss`",
   item: "`param`, `def` or `loss`",
   clause: "a clause such as `l1(q) = …` or `expect proper`",
-  defineClause: "a clause such as `l1(q) = …`",
+  defineClause: "an expression or `canonical` after `=`",
   expression: "an expression", orExpr: "an expression", andExpr: "an expression", notExpr: "an expression",
   comparison: "an expression", additive: "an expression", multiplicative: "an expression", unary: "an expression",
   power: "an expression", atom: "an expression", callOrName: "an expression", ifExpr: "an expression",
@@ -135,7 +142,7 @@ function parseErrorIssue(err: IRecognitionException, text: string, chunkEnd: { l
   } else if (err.name === "EarlyExitException") {
     message = `expected ${RULE_EXPECTATION[rule] ?? "more input"} but found ${found(tok)}`;
   } else {
-    message = `unexpected ${found(tok)}; expected ${RULE_EXPECTATION[rule] ?? "something else"}`;
+    message = `${atEof && !chunkEnd.next ? "unexpected end of the file" : `unexpected ${found(tok)}`}; expected ${RULE_EXPECTATION[rule] ?? "something else"}`;
   }
   return makeIssue("parse-unexpected-token", message, span);
 }
@@ -166,7 +173,7 @@ function splitItems(tokens: IToken[]): IToken[][] {
  * brackets, `^` chains, prefix operators and `if`s), or null. Such items are skipped, so the
  * recursive-descent parser and the tree walkers never see them.
  */
-function tooDeep(tokens: IToken[]): IToken | null {
+function tooDeep(tokens: IToken[]): { token: IToken; reason: "nesting" | "operators" } | null {
   const openers = new Set<TokenType>([T.LParen, T.LBracket, T.LBrace]);
   const closers = new Set<TokenType>([T.RParen, T.RBracket, T.RBrace]);
   const prefixContext = new Set<TokenType>([
@@ -175,20 +182,36 @@ function tooDeep(tokens: IToken[]): IToken | null {
   ]);
   const atoms = new Set<TokenType>([T.Identifier, T.NumberLiteral, T.RParen]);
   let chains: number[] = [0];
+  // `if`s per bracket level, never reset by an atom: an `else if … else if …` chain nests one level per
+  // `if` (counting sequential `if`s too is conservative and harmless).
+  let ifs: number[] = [0];
+  const binaryOps = new Set<TokenType>([T.Plus, T.Minus, T.Star, T.Slash, T.Caret, T.And, T.Or, T.Less, T.Greater, T.LessEq, T.GreaterEq]);
+  let operators = 0;
   for (let i = 0; i < tokens.length; i++) {
     const type = tokens[i]!.tokenType;
-    if (openers.has(type)) chains.push(0);
-    else if (closers.has(type) && chains.length > 1) chains.pop();
+    if (openers.has(type)) {
+      chains.push(0);
+      ifs.push(0);
+    } else if (closers.has(type) && chains.length > 1) {
+      chains.pop();
+      ifs.pop();
+    }
     const prev = i > 0 ? tokens[i - 1]!.tokenType : T.Equals;
     const top = chains.length - 1;
-    if (type === T.Equals) chains = chains.map(() => 0);
-    else if (type === T.Caret || type === T.If || ((type === T.Minus || type === T.Plus || type === T.Not) && prefixContext.has(prev))) {
+    if (binaryOps.has(type) && !prefixContext.has(prev) && ++operators > MAX_OPERATORS) return { token: tokens[i]!, reason: "operators" };
+    if (type === T.Equals) {
+      chains = chains.map(() => 0);
+      ifs = ifs.map(() => 0);
+      operators = 0;
+    } else if (type === T.If) {
+      ifs[top] = ifs[top]! + 1;
+    } else if (type === T.Caret || ((type === T.Minus || type === T.Plus || type === T.Not) && prefixContext.has(prev))) {
       chains[top] = chains[top]! + 1;
     } else if (atoms.has(type) && tokens[i + 1]?.tokenType !== T.Caret) {
       chains[top] = 0;
     }
-    const depth = chains.length - 1 + chains.reduce((x, y) => x + y, 0);
-    if (depth > MAX_NESTING) return tokens[i]!;
+    const depth = chains.length - 1 + chains.reduce((x, y) => x + y, 0) + ifs.reduce((x, y) => x + y, 0);
+    if (depth > MAX_NESTING) return { token: tokens[i]!, reason: "nesting" };
   }
   return null;
 }
@@ -224,10 +247,21 @@ function cstSpan(n: CstNode): Span | null {
 }
 
 class AstBuilder {
+  /**
+   * End offset of the last source token turned into a node so far. Nodes are built left to right, so a
+   * hole that recovery left without any token gets a zero-width span here, never before its left sibling.
+   */
+  private cursor = 0;
+
   constructor(
     private readonly text: string,
     private readonly comments: CommentToken[],
   ) {}
+
+  private mark(s: Span): Span {
+    if (s.end > this.cursor) this.cursor = s.end;
+    return s;
+  }
 
   item(itemNode: CstNode | undefined): Item | null {
     if (!itemNode) return null;
@@ -239,19 +273,31 @@ class AstBuilder {
   }
 
   private ident(t: IToken | undefined): Ident | null {
-    return t ? { name: t.image, span: tokenSpan(t) } : null;
+    return t ? { name: t.image, span: this.mark(tokenSpan(t)) } : null;
   }
 
   /** Comment lines directly above `offset`, with nothing but whitespace between them and it. */
   private docAbove(offset: number): string | null {
     const lines: string[] = [];
     let cursor = offset;
-    for (let i = this.comments.length - 1; i >= 0; i--) {
+    // Start at the last comment ending before `offset` (binary search: comments are in source order),
+    // so that a file with many items and comments is not scanned once per item.
+    let lo = 0;
+    let hi = this.comments.length;
+    while (lo < hi) {
+      const mid = (lo + hi) >> 1;
+      if (this.comments[mid]!.span.end <= offset) lo = mid + 1;
+      else hi = mid;
+    }
+    for (let i = lo - 1; i >= 0; i--) {
       const cm = this.comments[i]!;
       if (cm.span.end > cursor) continue;
       const between = this.text.slice(cm.span.end, cursor);
-      if (!/^[ \t]*\r?\n[ \t]*$/.test(between) && !(lines.length === 0 && /^[ \t]*\r?\n[ \t]*$/.test(between))) break;
-      const lineStart = this.text.lastIndexOf("\n", cm.span.start - 1) + 1;
+      // Exactly one line break (CRLF, LF or a lone CR, as the line index counts them) between the two.
+      if (!/^[ \t]*(?:\r\n|\r|\n)[ \t]*$/.test(between)) break;
+      // Only blanks may precede the comment on its line (scanned back to the line break, not further).
+      let lineStart = cm.span.start;
+      while (lineStart > 0 && this.text[lineStart - 1] !== "\n" && this.text[lineStart - 1] !== "\r") lineStart--;
       if (this.text.slice(lineStart, cm.span.start).trim() !== "") break;
       lines.unshift(cm.text.replace(/^#\s?/, ""));
       cursor = cm.span.start;
@@ -359,7 +405,7 @@ class AstBuilder {
   /** A hole: recovery produced no usable node here. */
   private errorExpr(n: CstNode | undefined): Expr {
     const s = n ? cstSpan(n) : null;
-    return { kind: "error", span: s ?? { start: 0, end: 0 } };
+    return { kind: "error", span: s ?? { start: this.cursor, end: this.cursor } };
   }
 
   expression(n: CstNode): Expr {
@@ -375,9 +421,10 @@ class AstBuilder {
     if (operands.length === 0) return this.errorExpr(n);
     let acc = child(operands[0]!);
     for (let i = 1; i < operands.length; i++) {
-      const right = child(operands[i]!);
       const op = ops[i - 1];
-      acc = { kind: "binary", op: (op ? normaliseOp(op.image) : "+") as BinaryOp, left: acc, right, span: { start: acc.span.start, end: right.span.end } };
+      if (op) this.mark(tokenSpan(op));
+      const right = child(operands[i]!);
+      acc = { kind: "binary", op: (op ? normaliseOp(op.image) : "+") as BinaryOp, left: acc, right, span: { start: acc.span.start, end: Math.max(acc.span.end, right.span.end) } };
     }
     void childKey;
     return acc;
@@ -389,8 +436,9 @@ class AstBuilder {
     const op = tok(c, "op");
     if (!operand) return this.errorExpr(n);
     if (op) {
+      const opSpan = this.mark(tokenSpan(op));
       const inner = this.notExpr(operand);
-      return { kind: "unary", op: "not", operand: inner, span: { start: op.startOffset, end: inner.span.end } };
+      return { kind: "unary", op: "not", operand: inner, span: { start: opSpan.start, end: Math.max(opSpan.end, inner.span.end) } };
     }
     return this.comparison(operand);
   }
@@ -407,8 +455,9 @@ class AstBuilder {
     const op = tok(c, "op");
     if (!operand) return this.errorExpr(n);
     if (op) {
+      const opSpan = this.mark(tokenSpan(op));
       const inner = this.unary(operand);
-      return { kind: "unary", op: normaliseOp(op.image) as UnaryOp, operand: inner, span: { start: op.startOffset, end: inner.span.end } };
+      return { kind: "unary", op: normaliseOp(op.image) as UnaryOp, operand: inner, span: { start: opSpan.start, end: Math.max(opSpan.end, inner.span.end) } };
     }
     return this.power(operand);
   }
@@ -418,7 +467,9 @@ class AstBuilder {
     const baseNode = node(c, "base");
     const base = baseNode ? this.atom(baseNode) : this.errorExpr(n);
     const expNode = node(c, "exponent");
-    if (!tok(c, "Caret")) return base;
+    const caret = tok(c, "Caret");
+    if (!caret) return base;
+    this.mark(tokenSpan(caret));
     const exponent = expNode ? this.unary(expNode) : this.errorExpr(n);
     return { kind: "binary", op: "^", left: base, right: exponent, span: { start: base.span.start, end: Math.max(base.span.end, exponent.span.end) } };
   }
@@ -426,11 +477,13 @@ class AstBuilder {
   private atom(n: CstNode): Expr {
     const c = n.children;
     const num = tok(c, "number");
-    if (num) return { kind: "number", value: Number(num.image), text: num.image, span: tokenSpan(num) };
+    if (num) return { kind: "number", value: Number(num.image), text: num.image, span: this.mark(tokenSpan(num)) };
     const con = node(c, "callOrName");
     if (con) return this.callOrName(con);
     const inner = node(c, "inner");
     if (inner) {
+      const lparen = tok(c, "LParen");
+      if (lparen) this.mark(tokenSpan(lparen));
       const e = this.expression(inner);
       const span = cstSpan(n) ?? e.span;
       return { kind: "paren", inner: e, span };
@@ -444,8 +497,10 @@ class AstBuilder {
     const c = n.children;
     const name = tok(c, "name");
     if (!name) return this.errorExpr(n);
-    const nameSpan = tokenSpan(name);
-    if (tok(c, "LParen")) {
+    const nameSpan = this.mark(tokenSpan(name));
+    const lparen = tok(c, "LParen");
+    if (lparen) {
+      this.mark(tokenSpan(lparen));
       const args = nodes(c, "args").map((a) => this.expression(a));
       const span = cstSpan(n) ?? nameSpan;
       return { kind: "call", callee: name.image, calleeSpan: nameSpan, args, span };

@@ -1,0 +1,34 @@
+/**
+ * The VS Code extension: starts the language server (dist/server.js) over IPC for `.loss` documents,
+ * forwards the `propriety.*` settings, and registers the commands and the status-bar summary.
+ */
+import * as path from "node:path";
+import * as vscode from "vscode";
+import { LanguageClient, TransportKind, type LanguageClientOptions, type ServerOptions } from "vscode-languageclient/node";
+import { registerCommands } from "./commands.js";
+import { readSettings } from "./settings.js";
+import { registerStatusBar } from "./status-bar.js";
+
+let client: LanguageClient | undefined;
+
+export async function activate(context: vscode.ExtensionContext): Promise<void> {
+  const serverModule = context.asAbsolutePath(path.join("dist", "server.js"));
+  const serverOptions: ServerOptions = {
+    run: { module: serverModule, transport: TransportKind.ipc },
+    debug: { module: serverModule, transport: TransportKind.ipc, options: { execArgv: ["--nolazy", "--inspect=6009"] } },
+  };
+  const clientOptions: LanguageClientOptions = {
+    documentSelector: [{ language: "loss" }],
+    initializationOptions: { settings: readSettings() },
+    // Pushes `workspace/didChangeConfiguration` with the `propriety` section whenever it changes.
+    synchronize: { configurationSection: "propriety" },
+  };
+  client = new LanguageClient("propriety", "Propriety", serverOptions, clientOptions);
+  await client.start();
+  registerCommands(context, client, null);
+  registerStatusBar(context, client);
+}
+
+export function deactivate(): Promise<void> | undefined {
+  return client?.stop();
+}

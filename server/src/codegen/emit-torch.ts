@@ -1,0 +1,44 @@
+/**
+ * PyTorch emitter: functional style (`torch.log1p`, `torch.nn.functional.softplus`, `torch.clamp`,
+ * `torch.where`), so autograd gives the gradient; no closed-form gradient is emitted for this target.
+ */
+import type { Expr } from "../syntax/ast.js";
+import { emitPythonModule, pyNumber, type EmitInput, type PyDialect, type PyTarget } from "./emit-python-common.js";
+import { sanitiseName } from "./names.js";
+
+const isNumber = (e: Expr): e is Extract<Expr, { kind: "number" }> => e.kind === "number";
+
+const dialect: PyDialect = {
+  lib: "torch",
+  calls: {
+    sigmoid: { print: ([a]) => `torch.sigmoid(${a})` },
+    softplus: { print: ([a]) => `torch.nn.functional.softplus(${a})` },
+    asin: { print: ([a]) => `torch.asin(${a})` },
+    acos: { print: ([a]) => `torch.acos(${a})` },
+    atan: { print: ([a]) => `torch.atan(${a})` },
+    erf: { print: ([a]) => `torch.erf(${a})` },
+    normcdf: { print: ([a]) => `torch.special.ndtr(${a})` },
+    probit: { print: ([a]) => `torch.special.ndtri(${a})` },
+  },
+  // Constant branches are broadcast to the input's shape and dtype (torch.where wants tensors).
+  where: (c, a, b, ra, rb, v) => `torch.where(${c}, ${isNumber(ra) ? `torch.full_like(${v}, ${a})` : a}, ${isNumber(rb) ? `torch.full_like(${v}, ${b})` : b})`,
+  minimum: (a, b, ra, rb) => (isNumber(rb) ? `torch.clamp(${a}, max=${pyNumber(rb.value)})` : isNumber(ra) ? `torch.clamp(${b}, max=${pyNumber(ra.value)})` : `torch.minimum(${a}, ${b})`),
+  maximum: (a, b, ra, rb) => (isNumber(rb) ? `torch.clamp(${a}, min=${pyNumber(rb.value)})` : isNumber(ra) ? `torch.clamp(${b}, min=${pyNumber(ra.value)})` : `torch.maximum(${a}, ${b})`),
+};
+
+const target: PyTarget = {
+  target: "torch",
+  dialect,
+  imports: ["import torch"],
+  notes: ["PyTorch: differentiate with autograd (loss.backward()); pred and target are tensors of the same shape."],
+  asArray: (p) => `torch.as_tensor(${p})`,
+  labels: (t, like) => `torch.as_tensor(${t}, dtype=${like}.dtype, device=${like}.device)`,
+  clamp: (x, lo, hi) => `torch.clamp(${x}${lo ? `, min=${lo}` : ""}${hi ? `, max=${hi}` : ""})`,
+  helperSources: {},
+  gradients: false,
+};
+
+/** The PyTorch module text for the lowered losses of one file. */
+export function emitTorch(input: EmitInput): string {
+  return emitPythonModule(input, target, (n) => sanitiseName(n, "python"));
+}

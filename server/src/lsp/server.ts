@@ -1,0 +1,309 @@
+/**
+ * The language server: wires an LSP connection to the language service. Every handler is guarded
+ * (an exception becomes a log line and an empty answer), requests for unopened documents or positions
+ * outside the document get an empty answer, and diagnostics come from the scheduler's two passes.
+ */
+import {
+  CodeLensRefreshRequest, DidChangeConfigurationNotification, ResponseError, ErrorCodes, SemanticTokensBuilder,
+  TextDocumentSyncKind, TextDocuments, type ClientCapabilities, type Connection, type InitializeParams, type InitializeResult,
+  type Position,
+} from "vscode-languageserver/node";
+import { TextDocument } from "vscode-languageserver-textdocument";
+import type { Issue } from "../issue.js";
+import { createLanguageService, type LanguageService, type ServiceSettings } from "../service/language-service.js";
+import { TOKEN_MODIFIERS, TOKEN_TYPES } from "../service/semantic-tokens.js";
+import {
+  fromDiagnostic, toCodeAction, toCompletionItem, toDiagnostic, toDocumentSymbol, toFoldingRange, toOffset, toRange, toSpan, toTextEdit,
+} from "./convert.js";
+import { DEFAULT_DEBOUNCE_MS, DiagnosticsScheduler } from "./scheduler.js";
+
+/** Losses analysed per document unless the settings say otherwise: keeps a huge paste from stalling the engine. */
+export const DEFAULT_MAX_ANALYSED_LOSSES = 200;
+
+/** Custom request: the figures of the loss under the cursor, for the client's status bar. */
+export const LOSS_SUMMARY_REQUEST = "propriety/lossSummary";
+/** Custom notification: a full analysis of a document version was published. */
+export const ANALYSED_NOTIFICATION = "propriety/analysed";
+
+/** The `propriety.*` settings the client sends (initializationOptions.settings or didChangeConfiguration). */
+export interface ClientSettings {
+  analysis?: { deadlineMs?: number; gridResolution?: number; tolerance?: number; seed?: number };
+  defaultThreshold?: number;
+  maxAnalysedLosses?: number;
+  debounceMs?: number;
+  format?: { indent?: number };
+}
+
+/** Maps client settings onto the service's; unknown or ill-typed values are ignored. */
+export function toServiceSettings(s: ClientSettings | undefined): Partial<ServiceSettings> {
+  const out: Partial<ServiceSettings> = {};
+  if (!s || typeof s !== "object") return out;
+  const num = (x: unknown): number | undefined => (typeof x === "number" && Number.isFinite(x) ? x : undefined);
+  const analysis: Record<string, number> = {};
+  const a = s.analysis ?? {};
+  for (const k of ["deadlineMs", "gridResolution", "tolerance", "seed"] as const) {
+    const v = num(a[k]);
+    if (v !== undefined) analysis[k] = v;
+  }
+  const t = num(s.defaultThreshold);
+  // Forwarded to the engine, which reads the options it knows; the others are ignored there.
+  if (t !== undefined) analysis["defaultThreshold"] = t;
+  out.analysis = analysis;
+  const max = num(s.maxAnalysedLosses);
+  if (max !== undefined && max >= 1) out.maxAnalysedLosses = Math.floor(max);
+  const indent = num(s.format?.indent);
+  if (indent !== undefined) out.indent = indent;
+  return out;
+}
+
+/** Optional service modules written by other parts of the project, looked up at start-up. */
+export interface OptionalHandlers {
+  /** Registered under their method names; each receives (params, documents text lookup). */
+  [method: string]: (params: unknown, getText: (uri: string) => { text: string; version: number } | null) => unknown;
+}
+
+export function startServer(connection: Connection, extra: OptionalHandlers = {}): void {
+  const documents = new TextDocuments(TextDocument);
+  const log = (m: string) => connection.console.log(m);
+  const service: LanguageService = createLanguageService({ maxAnalysedLosses: DEFAULT_MAX_ANALYSED_LOSSES }, (feature, err) => {
+    connection.console.error(`${feature} failed: ${err instanceof Error ? err.stack ?? err.message : String(err)}`);
+  });
+  let caps: ClientCapabilities = {};
+  let relatedSupport = false;
+  let snippetSupport = false;
+  let debounceMs = DEFAULT_DEBOUNCE_MS;
+
+  const publish = (uri: string, version: number, issues: Issue[]) => {
+    const doc = documents.get(uri);
+    // Only the latest version is published; a pass for an older text is simply dropped.
+    if (!doc || doc.version !== version) return;
+    const diagnostics = issues.map((i) => toDiagnostic(doc, i, relatedSupport));
+    void connection.sendDiagnostics({ uri, version, diagnostics });
+  };
+  let scheduler = makeScheduler();
+
+  function makeScheduler(): DiagnosticsScheduler {
+    return new DiagnosticsScheduler(service, {
+      publish,
+      log,
+      analysed(uri, version) {
+        void connection.sendNotification(ANALYSED_NOTIFICATION, { uri, version });
+        if (caps.workspace?.codeLens?.refreshSupport) void connection.sendRequest(CodeLensRefreshRequest.type).catch(() => undefined);
+      },
+    }, debounceMs);
+  }
+
+  function applySettings(s: ClientSettings | undefined): void {
+    service.configure(toServiceSettings(s));
+    const d = typeof s?.debounceMs === "number" && s.debounceMs >= 0 && s.debounceMs <= 5000 ? s.debounceMs : DEFAULT_DEBOUNCE_MS;
+    if (d !== debounceMs) {
+      debounceMs = d;
+      scheduler = makeScheduler();
+    }
+    // Settings change the analysis: recheck every open document.
+    for (const doc of documents.all()) scheduler.update(doc.uri, doc.version, doc.getText());
+  }
+
+  /** Wraps a handler: exceptions are logged and answered with the fallback, never left to kill the server. */
+  function guard<P, R>(name: string, fallback: R, fn: (p: P) => R | Promise<R>): (p: P) => Promise<R> {
+    return async (p: P) => {
+      try {
+        return await fn(p);
+      } catch (err) {
+        if (err instanceof ResponseError) throw err;
+        connection.console.error(`${name} failed: ${err instanceof Error ? err.stack ?? err.message : String(err)}`);
+        return fallback;
+      }
+    };
+  }
+
+  /** The open document and the offset of a position in it, or null (unopened document, position outside). */
+  function at(uri: string, pos: Position): { doc: TextDocument; text: string; offset: number } | null {
+    const doc = documents.get(uri);
+    if (!doc) return null;
+    const offset = toOffset(doc, pos);
+    return offset === null ? null : { doc, text: doc.getText(), offset };
+  }
+
+  connection.onInitialize((params: InitializeParams): InitializeResult => {
+    caps = params.capabilities;
+    relatedSupport = caps.textDocument?.publishDiagnostics?.relatedInformation === true;
+    snippetSupport = caps.textDocument?.completion?.completionItem?.snippetSupport === true;
+    const init = params.initializationOptions as { settings?: ClientSettings } | undefined;
+    if (init?.settings) {
+      service.configure(toServiceSettings(init.settings));
+      if (typeof init.settings.debounceMs === "number" && init.settings.debounceMs >= 0 && init.settings.debounceMs <= 5000) {
+        debounceMs = init.settings.debounceMs;
+        scheduler = makeScheduler();
+      }
+    }
+    const customs = [LOSS_SUMMARY_REQUEST, ...Object.keys(extra)];
+    return {
+      capabilities: {
+        textDocumentSync: TextDocumentSyncKind.Incremental,
+        hoverProvider: true,
+        completionProvider: { triggerCharacters: [" ", "("] },
+        signatureHelpProvider: { triggerCharacters: ["(", ","] },
+        definitionProvider: true,
+        referencesProvider: true,
+        renameProvider: { prepareProvider: true },
+        documentSymbolProvider: true,
+        semanticTokensProvider: { legend: { tokenTypes: [...TOKEN_TYPES], tokenModifiers: [...TOKEN_MODIFIERS] }, full: true },
+        foldingRangeProvider: true,
+        codeLensProvider: { resolveProvider: false },
+        codeActionProvider: { codeActionKinds: ["quickfix", "refactor.rewrite"] },
+        documentFormattingProvider: true,
+        experimental: { proprietyRequests: customs },
+      },
+      serverInfo: { name: "propriety", version: "0.1.0" },
+    };
+  });
+
+  connection.onInitialized(() => {
+    if (caps.workspace?.didChangeConfiguration?.dynamicRegistration) {
+      void connection.client.register(DidChangeConfigurationNotification.type, { section: "propriety" }).catch(() => undefined);
+    }
+  });
+
+  connection.onDidChangeConfiguration(guard("didChangeConfiguration", undefined, async (p) => {
+    const pushed = (p.settings as { propriety?: ClientSettings } | null)?.propriety;
+    if (pushed) return applySettings(pushed);
+    if (caps.workspace?.configuration) {
+      const pulled = (await connection.workspace.getConfiguration("propriety")) as ClientSettings | null;
+      applySettings(pulled ?? undefined);
+    }
+  }));
+
+  documents.onDidChangeContent((e) => {
+    try {
+      scheduler.update(e.document.uri, e.document.version, e.document.getText());
+    } catch (err) {
+      connection.console.error(`scheduling checks failed: ${String(err)}`);
+    }
+  });
+  documents.onDidClose((e) => {
+    scheduler.close(e.document.uri);
+    void connection.sendDiagnostics({ uri: e.document.uri, diagnostics: [] });
+  });
+
+  connection.onHover(guard("hover", null, (p) => {
+    const a = at(p.textDocument.uri, p.position);
+    if (!a) return null;
+    const h = service.hover(a.text, a.offset);
+    return h ? { contents: { kind: "markdown" as const, value: h.markdown }, range: toRange(a.doc, h.span) } : null;
+  }));
+
+  connection.onCompletion(guard("completion", [], (p) => {
+    const a = at(p.textDocument.uri, p.position);
+    if (!a) return [];
+    return service.completions(a.text, a.offset).map((c) => toCompletionItem(c, snippetSupport));
+  }));
+
+  connection.onSignatureHelp(guard("signatureHelp", null, (p) => {
+    const a = at(p.textDocument.uri, p.position);
+    if (!a) return null;
+    const s = service.signatureHelp(a.text, a.offset);
+    if (!s) return null;
+    return {
+      signatures: [{ label: s.label, documentation: { kind: "markdown" as const, value: s.documentation }, parameters: s.parameters.map((x) => ({ label: x.label })) }],
+      activeSignature: 0,
+      activeParameter: s.activeParameter,
+    };
+  }));
+
+  connection.onDefinition(guard("definition", [], (p) => {
+    const a = at(p.textDocument.uri, p.position);
+    if (!a) return [];
+    return service.definition(a.text, a.offset).map((s) => ({ uri: a.doc.uri, range: toRange(a.doc, s) }));
+  }));
+
+  connection.onReferences(guard("references", [], (p) => {
+    const a = at(p.textDocument.uri, p.position);
+    if (!a) return [];
+    return service.references(a.text, a.offset, p.context.includeDeclaration).map((s) => ({ uri: a.doc.uri, range: toRange(a.doc, s) }));
+  }));
+
+  connection.onPrepareRename(guard("prepareRename", null, (p) => {
+    const a = at(p.textDocument.uri, p.position);
+    if (!a) return null;
+    const r = service.prepareRename(a.text, a.offset);
+    return r ? { range: toRange(a.doc, r.span), placeholder: r.placeholder } : null;
+  }));
+
+  connection.onRenameRequest(guard("rename", null, (p) => {
+    const a = at(p.textDocument.uri, p.position);
+    if (!a) return null;
+    const r = service.rename(a.text, a.offset, p.newName);
+    if (!r.ok) throw new ResponseError(ErrorCodes.InvalidParams, r.message);
+    return { changes: { [a.doc.uri]: r.edits.map((e) => toTextEdit(a.doc, e)) } };
+  }));
+
+  connection.onDocumentSymbol(guard("documentSymbol", [], (p) => {
+    const doc = documents.get(p.textDocument.uri);
+    if (!doc) return [];
+    return service.documentSymbols(doc.getText()).map((s) => toDocumentSymbol(doc, s));
+  }));
+
+  connection.languages.semanticTokens.on(guard("semanticTokens", { data: [] }, (p) => {
+    const doc = documents.get(p.textDocument.uri);
+    if (!doc) return { data: [] };
+    const builder = new SemanticTokensBuilder();
+    for (const t of service.semanticTokens(doc.getText())) {
+      const start = doc.positionAt(t.span.start);
+      const end = doc.positionAt(t.span.end);
+      if (end.line !== start.line) continue;
+      let mods = 0;
+      for (const m of t.modifiers) mods |= 1 << TOKEN_MODIFIERS.indexOf(m);
+      builder.push(start.line, start.character, end.character - start.character, TOKEN_TYPES.indexOf(t.type), mods);
+    }
+    return builder.build();
+  }));
+
+  connection.onFoldingRanges(guard("foldingRange", [], (p) => {
+    const doc = documents.get(p.textDocument.uri);
+    if (!doc) return [];
+    return service.foldingRanges(doc.getText()).map((f) => toFoldingRange(doc, f)).filter((f) => f !== null);
+  }));
+
+  connection.onCodeLens(guard("codeLens", [], (p) => {
+    const doc = documents.get(p.textDocument.uri);
+    if (!doc) return [];
+    return service.codeLenses(doc.getText()).map((l) => ({
+      range: toRange(doc, l.span),
+      command: { title: l.title, command: "propriety.openCurveViewer", arguments: [doc.uri, l.loss] },
+    }));
+  }));
+
+  connection.onCodeAction(guard("codeAction", [], (p) => {
+    const doc = documents.get(p.textDocument.uri);
+    if (!doc) return [];
+    const issues = p.context.diagnostics.map((d) => fromDiagnostic(doc, d)).filter((i): i is Issue => i !== null);
+    const actions = service.codeActions(doc.getText(), toSpan(doc, p.range), issues);
+    const only = p.context.only;
+    return actions
+      .map((a) => toCodeAction(doc, a, p.context.diagnostics))
+      .filter((a) => !only || only.some((k) => a.kind === k || a.kind?.startsWith(`${k}.`)));
+  }));
+
+  connection.onDocumentFormatting(guard("formatting", [], (p) => {
+    const doc = documents.get(p.textDocument.uri);
+    if (!doc) return [];
+    return service.format(doc.getText()).map((e) => toTextEdit(doc, e));
+  }));
+
+  connection.onRequest(LOSS_SUMMARY_REQUEST, guard("lossSummary", null, (p: { uri: string; position: Position }) => {
+    const a = at(p.uri, p.position);
+    return a ? service.lossSummary(a.text, a.offset) : null;
+  }));
+
+  const getText = (uri: string) => {
+    const d = documents.get(uri);
+    return d ? { text: d.getText(), version: d.version } : null;
+  };
+  for (const [method, handler] of Object.entries(extra)) {
+    connection.onRequest(method, guard(method, null, (p: unknown) => handler(p, getText)));
+  }
+
+  documents.listen(connection);
+  connection.listen();
+}

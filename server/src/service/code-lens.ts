@@ -1,0 +1,45 @@
+/** Code lenses (one line above each loss with the engine's summary) and the loss summary for the status bar. */
+import type { Span } from "../issue.js";
+import type { LossAnalysis } from "../analysis/analyse.js";
+import type { DocumentAnalysis } from "./document.js";
+import { formatNumber } from "./hover.js";
+import { findLossAt } from "./navigation.js";
+
+export interface CodeLens {
+  span: Span;
+  loss: string;
+  title: string;
+}
+
+/** A short figure line: verdict · λ · both exponents. */
+export function shortSummary(a: LossAnalysis): string {
+  const verdict = a.verdict === "strictly-proper" ? "strictly proper" : a.verdict;
+  return `${verdict} · λ ${formatNumber(a.lambda)} · exponents ${formatNumber(a.exponents.viaModulus)} / ${formatNumber(a.exponents.direct)}`;
+}
+
+export function computeCodeLenses(doc: DocumentAnalysis): CodeLens[] {
+  return doc.losses.map((r) => {
+    const title = r.analysis
+      ? r.analysis.summary || shortSummary(r.analysis)
+      : r.info.hasErrors || !r.compiled ? "not analysed: the loss has errors" : "analysing…";
+    return { span: r.info.decl.name.span, loss: r.info.name, title };
+  });
+}
+
+/** What the status bar shows for the loss under the cursor. */
+export interface LossSummary {
+  loss: string;
+  verdict: LossAnalysis["verdict"] | null;
+  text: string;
+  summary: string;
+}
+
+export function computeLossSummary(doc: DocumentAnalysis, offset: number): LossSummary | null {
+  const info = findLossAt(doc.model, offset);
+  if (!info) return null;
+  const r = doc.losses.find((x) => x.info === info);
+  if (!r?.analysis) {
+    return { loss: info.name, verdict: null, text: `${info.name}: ${info.hasErrors ? "has errors" : "not analysed"}`, summary: "" };
+  }
+  return { loss: info.name, verdict: r.analysis.verdict, text: `${info.name}: ${shortSummary(r.analysis)}`, summary: r.analysis.summary };
+}

@@ -1,0 +1,9 @@
+/** Document formatting: a thin call of the formatter, returned as one whole-document edit (none when the text has syntax errors). */
+import { formatDocument } from "../syntax/format.js";
+import type { TextEdit } from "./navigation.js";
+
+export function computeFormatting(text: string, options: { indent?: number } = {}): TextEdit[] {
+  const result = formatDocument(text, options.indent !== undefined ? { indent: options.indent } : {});
+  if (!result || !result.changed) return [];
+  return [{ span: { start: 0, end: text.length }, newText: result.text }];
+}

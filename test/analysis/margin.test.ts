@@ -1,0 +1,115 @@
+/**
+ * Tests of margin losses φ(yv): implied link (Reid & Williamson 2010, Cor. 14), Bayes risk and the BJM
+ * ψ-transform values (proper-losses.md §4), calibration (Bartlett, Jordan & McAuliffe 2006) and convexity.
+ */
+import { describe, expect, it } from "vitest";
+import { analyseProperness } from "../../server/src/analysis/properness.js";
+import {
+  checkMarginCalibration,
+  impliedInverseLink,
+  isDifferentiableAtZero,
+  marginBayes,
+  scanConvexity,
+  scanMarginLink,
+} from "../../server/src/analysis/margin.js";
+import { nearlyEqual } from "../../server/src/analysis/numeric.js";
+import type { RealFn } from "../../server/src/analysis/loss-model.js";
+import { MARGIN_EXP, MARGIN_HINGE, MARGIN_LOGISTIC, MARGIN_SQUARED, familyOf, margin } from "./standard-losses.js";
+
+const codesOf = (phi: RealFn, dphi?: RealFn) => analyseProperness(familyOf(margin("m", phi, dphi))).findings.map((f) => f.code);
+
+describe("verdicts of the margin losses of proper-losses.md §4/§5", () => {
+  it.each([
+    // RW10 Cor. 14: e^{−v} is proper composite with the half-logit link.
+    ["exponential", MARGIN_EXP, "strictly-proper", []],
+    // Logistic with the logit link is log loss (Agarwal 2014, Ex. 2).
+    ["logistic", MARGIN_LOGISTIC, "strictly-proper", []],
+    // (1−v)² with link 2q−1 is the Ag14 squared loss (Agarwal 2014, Ex. 3).
+    ["squared", MARGIN_SQUARED, "strictly-proper", []],
+    // Hinge: calibrated but no invertible link (RW10 Cor. 14 text; BJM06); notation.md makes the verdict improper.
+    ["hinge", MARGIN_HINGE, "improper", ["margin-no-link"]],
+  ] as const)("%s → %s", (_n, spec, verdict, expectedCodes) => {
+    const r = analyseProperness(familyOf(spec));
+    expect(r.verdict).toBe(verdict);
+    expect(r.findings.map((f) => f.code)).toEqual(expectedCodes);
+  });
+
+  it("hinge: the margin-no-link finding says it is classification-calibrated (Bartlett, Jordan & McAuliffe 2006)", () => {
+    const r = analyseProperness(familyOf(MARGIN_HINGE));
+    expect(r.findings[0]!.message).toMatch(/classification-calibrated/);
+  });
+});
+
+describe("Bayes risk by minimisation over the score, and the ψ-transform ψ(θ) = φ(0) − H((1+θ)/2) (proper-losses.md §4 table, computed by 1-D minimisation there)", () => {
+  it.each([
+    ["exponential", MARGIN_EXP.margin!, [0.00501256289338, 0.133974596216, 0.564110105646]],
+    ["logistic", MARGIN_LOGISTIC.margin!, [0.00500836684636, 0.130812035941, 0.494631937214]],
+    ["squared", MARGIN_SQUARED.margin!, [0.01, 0.25, 0.81]],
+    ["truncated quadratic", (v: number) => Math.max(0, 1 - v) ** 2, [0.01, 0.25, 0.81]],
+    ["hinge", MARGIN_HINGE.margin!, [0.1, 0.5, 0.9]],
+  ] as const)("%s at θ = 0.1, 0.5, 0.9", (_n, phi, values) => {
+    const H = marginBayes(phi);
+    [0.1, 0.5, 0.9].forEach((theta, i) => {
+      expect(Math.abs(phi(0) - H((1 + theta) / 2) - values[i]!)).toBeLessThan(1e-9);
+    });
+  });
+});
+
+describe("implied link ψ⁻¹(v) = φ'(−v)/(φ'(−v)+φ'(v)) (Reid & Williamson 2010, Cor. 14)", () => {
+  it("exponential: ψ⁻¹(v) = 1/(1+e^{−2v})", () => {
+    const inv = impliedInverseLink(MARGIN_EXP.dmargin!);
+    for (const v of [-3, -0.5, 0, 1, 4]) expect(nearlyEqual(inv(v), 1 / (1 + Math.exp(-2 * v)))).toBe(true);
+    expect(scanMarginLink(inv).invertible).toBe(true);
+  });
+  it("squared: valid on v ∈ [−1, 1] (ψ = 2q − 1)", () => {
+    const s = scanMarginLink(impliedInverseLink(MARGIN_SQUARED.dmargin!));
+    expect(s.invertible).toBe(true);
+    expect(Math.abs(s.vlo + 1)).toBeLessThan(1e-12);
+    expect(Math.abs(s.vhi - 1)).toBeLessThan(1e-12);
+  });
+  it("hinge: ψ⁻¹ ≡ ½ on (−1, 1), not invertible, with the flat interval as evidence", () => {
+    const s = scanMarginLink(impliedInverseLink(MARGIN_HINGE.dmargin!));
+    expect(s.invertible).toBe(false);
+    expect(s.flat![0]).toBeGreaterThanOrEqual(-1);
+    expect(s.flat![1]).toBeLessThanOrEqual(1);
+  });
+});
+
+describe("calibration (Bartlett, Jordan & McAuliffe 2006: convex φ is calibrated iff differentiable at 0 with φ'(0) < 0)", () => {
+  it.each([
+    ["exponential e^{−v}", (v: number) => Math.exp(-v), (v: number) => -Math.exp(-v), true],
+    ["hinge max(0, 1−v)", (v: number) => Math.max(0, 1 - v), (v: number) => (v < 1 ? -1 : 0), true],
+    ["e^{v} (φ'(0) = 1 > 0)", (v: number) => Math.exp(v), (v: number) => Math.exp(v), false],
+    ["max(0, −v) (kink at 0)", (v: number) => Math.max(0, -v), (v: number) => (v < 0 ? -1 : 0), false],
+    ["steep exponential e^{−1000v} (smooth at 0)", (v: number) => Math.exp(-1000 * v), (v: number) => -1000 * Math.exp(-1000 * v), true],
+  ] as const)("%s → calibrated = %s", (_n, phi, dphi, calibrated) => {
+    expect(checkMarginCalibration(phi, dphi, true).calibrated).toBe(calibrated);
+  });
+
+  it("a non-convex φ is checked by the definition H⁻(η) > H(η): the sigmoid loss 1 − tanh v is calibrated (computed: H = 1 − |1−2η|, H⁻ = 1)", () => {
+    const phi = (v: number) => 1 - Math.tanh(v);
+    expect(scanConvexity(phi).convex).toBe(false);
+    expect(checkMarginCalibration(phi, (v) => -1 / Math.cosh(v) ** 2, false).calibrated).toBe(true);
+  });
+
+  it("kink test: |v| has a kink at 0, e^{−v} has none (common practice: one-sided difference quotients)", () => {
+    expect(isDifferentiableAtZero(Math.abs).differentiable).toBe(false);
+    expect(isDifferentiableAtZero((v) => Math.exp(-v)).differentiable).toBe(true);
+  });
+});
+
+describe("bad margin input", () => {
+  it("non-convex margin (sigmoid loss): not-convex-in-score and margin-no-link, no throw", () => {
+    const c = codesOf((v) => 1 - Math.tanh(v));
+    expect(c).toContain("not-convex-in-score");
+    expect(c).toContain("margin-no-link");
+  });
+  it("not calibrated (e^{v}): margin-not-calibrated", () => {
+    expect(codesOf((v) => Math.exp(v))).toContain("margin-not-calibrated");
+  });
+  it("overflow (e^{−1000v} overflows for v < −0.71): analysed without throwing, proper composite with link ψ = logit/2000 (computed from RW10 Cor. 14)", () => {
+    const r = analyseProperness(familyOf(margin("steep", (v) => Math.exp(-1000 * v), (v) => -1000 * Math.exp(-1000 * v))));
+    expect(r.verdict).toBe("strictly-proper");
+    expect(nearlyEqual(r.fns!.link!(0.7), Math.log(0.7 / 0.3) / 2000, 1e-8)).toBe(true);
+  });
+});
