@@ -19,8 +19,10 @@ import {
   weight,
 } from "../test/analysis/standard-losses.js";
 
-/** Repetitions per case; the median is reported, after one warm-up run. */
-export const BENCH_REPEATS = 15;
+/** Repetitions per case; the median is reported. */
+export const BENCH_REPEATS = 21;
+/** Warm-up runs per case before timing (lets the JIT compile the hot loops, as in a long-running language server). */
+export const BENCH_WARMUP = 5;
 
 function median(xs: number[]): number {
   const s = [...xs].sort((a, b) => a - b);
@@ -58,7 +60,7 @@ export async function benchProperness(): Promise<{ name: string; medianMs: numbe
   ];
   const out: { name: string; medianMs: number }[] = [];
   for (const [name, fam] of cases) {
-    analyseProperness(fam);
+    for (let i = 0; i < BENCH_WARMUP; i++) analyseProperness(fam);
     const times: number[] = [];
     for (let i = 0; i < BENCH_REPEATS; i++) {
       const t0 = performance.now();

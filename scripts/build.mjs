@@ -7,10 +7,15 @@ const common = { bundle: true, platform: "node", format: "cjs", target: "node20"
 const entries = [
   { entryPoints: ["client/src/extension.ts"], outfile: "dist/extension.js", external: ["vscode"] },
   { entryPoints: ["server/src/lsp/main.ts"], outfile: "dist/server.js" },
-  { entryPoints: ["server/src/cli/main.ts"], outfile: "dist/cli.js" },
+  // playwright-core stays external: `report --png` loads it only when asked (it is not bundled).
+  { entryPoints: ["server/src/cli/main.ts"], outfile: "dist/cli.js", external: ["playwright-core"] },
 ];
 const optional = [
   { entryPoints: ["client/media/viewer.ts"], outfile: "dist/viewer.js", platform: "browser", format: "iife", target: "es2022" },
+  // The report inlines this bundle's text (no source map: the report must be self-contained).
+  { entryPoints: ["client/media/report-page.ts"], outfile: "dist/report-page.js", platform: "browser", format: "iife", target: "es2022", sourcemap: false, minify: true },
+  // The webview loads the stylesheet from dist/ (its only local resource root); the report inlines it.
+  { entryPoints: ["client/media/viewer.css"], outfile: "dist/viewer.css", platform: "browser", sourcemap: false },
 ];
 import { existsSync } from "node:fs";
 await Promise.all([

@@ -17,6 +17,10 @@ declare function acquireVsCodeApi(): VsCodeApi;
 /** What survives a reload of the webview (small: the host re-sends the curves). */
 interface PersistedState extends ViewState {
   version: 1;
+  /** The focus loss of the host's first message was applied (once per panel). */
+  focused?: boolean;
+  /** The document shown: VS Code passes this state to the panel serializer after a reload. */
+  uri?: string;
 }
 
 const api = acquireVsCodeApi();
@@ -28,6 +32,8 @@ function loadState(): PersistedState {
     version: 1,
     eta: typeof s?.eta === "number" && s.eta > 0 && s.eta < 1 ? s.eta : DEFAULT_ETA,
     hidden: Array.isArray(s?.hidden) ? s.hidden.filter((x): x is string => typeof x === "string") : [],
+    focused: s?.focused === true,
+    uri: typeof s?.uri === "string" ? s.uri : undefined,
   };
 }
 
@@ -60,7 +66,7 @@ const etaInput = byId<HTMLInputElement>("eta");
 const etaValue = byId<HTMLSpanElement>("eta-value");
 
 function saveState(): void {
-  api.setState({ version: 1, eta: state.eta, hidden: state.hidden } satisfies PersistedState);
+  api.setState({ version: 1, eta: state.eta, hidden: state.hidden, focused: state.focused, uri: state.uri } satisfies PersistedState);
 }
 
 function post(message: ViewerToHost): void {
@@ -230,6 +236,16 @@ window.addEventListener("message", (ev: MessageEvent<HostToViewer>) => {
     lastSeq = seq;
     for (const [k, p] of pending) if (p.seq <= seq) pending.delete(k);
     data = msg.data;
+    if (state.uri !== data.uri) {
+      state.uri = data.uri;
+      saveState();
+    }
+    // A viewer opened for one loss starts with that loss alone (the legend brings the others back).
+    if (msg.focus && !state.focused && data.losses.some((l) => l.loss === msg.focus)) {
+      state.hidden = data.losses.map((l) => l.loss).filter((n) => n !== msg.focus);
+      state.focused = true;
+      saveState();
+    }
     if (typeof msg.eta === "number" && !(state.eta > 0)) state.eta = msg.eta;
     const error = byId<HTMLDivElement>("error");
     delete error.dataset.sticky;

@@ -46,6 +46,12 @@ export interface LossFigures {
   lambda: number | null;
   modulus: { coefficient: number; power: number } | null;
   exponents: { viaModulus: number | null; direct: number | null };
+  /** Surrogate regret needed for each decision regret, by route (null: no guarantee by that route). */
+  inverseTable?: { decisionRegret: number; viaModulus: number | null; direct: number | null; psiTransform: number | null }[];
+  /** Why the two exponents differ, when they do. */
+  exponentNote?: string | null;
+  /** Units of the decision and surrogate regrets. */
+  units?: { decisionRegret: string; surrogateRegret: string };
 }
 
 export interface CurvesParams {
@@ -98,5 +104,5 @@ export type ViewerToHost =
   | { type: "selectLosses"; losses: string[] };
 
 export type HostToViewer =
-  | { type: "curves"; data: CurvesResult; eta: number; seq?: number }
+  | { type: "curves"; data: CurvesResult; eta: number; seq?: number; focus?: string }
   | { type: "error"; message: string };

@@ -443,3 +443,14 @@ describe("properties (fast-check, seeded; sources in each property)", () => {
     );
   });
 });
+
+describe("weights that vanish fast at an endpoint", () => {
+  // Beta(2, 5) weight w = q(1−q)^4: positive on (0, 1), so the loss is strictly proper (Reid & Williamson 2010,
+  // Thm 6 and the text after it: strict iff w charges every open set), although l1 and l0 vary by ~1e-13 near q = 1.
+  it("a closed-form weight positive near 1 is not mistaken for a flat Bayes risk", () => {
+    const spec: LossSpec = { name: "beta25", form: "weight", params: {}, threshold: 0.2, weight: (q) => q * Math.pow(1 - q, 4) };
+    const r = analyseProperness(familyOf(spec));
+    expect(r.verdict).toBe("strictly-proper");
+    expect(r.flatInterval).toBeNull();
+  });
+});

@@ -178,6 +178,7 @@ function assemble(
     dl0: RealFn;
     bayes?: RealFn;
     weight: RealFn | null;
+    weightExact?: boolean;
     link?: LinkParts;
     margin?: RealFn | null;
     notes: string[];
@@ -194,6 +195,7 @@ function assemble(
     risk,
     bayes: parts.bayes ?? numericBayes(risk),
     weight: parts.weight,
+    weightExact: parts.weightExact === true && parts.weight !== null,
     link: parts.link?.link ?? null,
     dlink: parts.link?.dlink ?? null,
     inverseLink: parts.link?.inverseLink ?? null,
@@ -216,7 +218,7 @@ function derivePartials(spec: LossSpec): DeriveResult {
   const weight = stationarityWeight(dl1, dl0);
   notes.push("H(η) = inf_q L(η, q) by a grid scan with golden refinement; equals L(η, η) when no lower value is found.");
   const link = probabilityLink(spec, weight, null, findings, notes);
-  return { fns: assemble(spec, { l1, l0, dl1, dl0, weight, link, notes }), findings };
+  return { fns: assemble(spec, { l1, l0, dl1, dl0, weight, weightExact: !!(spec.dl1 && spec.dl0), link, notes }), findings };
 }
 
 function deriveBayes(spec: LossSpec): DeriveResult {
@@ -237,7 +239,7 @@ function deriveBayes(spec: LossSpec): DeriveResult {
   const weight = (q: number) => -d2H(q);
   const link = probabilityLink(spec, weight, dH, findings, notes);
   notes.push("Partial losses from the Savage form l1 = H + (1−q)H', l0 = H − qH'; H(η) = inf_q L(η, q), which is the declared H when H is concave.");
-  return { fns: assemble(spec, { l1, l0, dl1, dl0, weight, link, notes }), findings };
+  return { fns: assemble(spec, { l1, l0, dl1, dl0, weight, weightExact: !!spec.d2bayes, link, notes }), findings };
 }
 
 /** Interior points where the weight is sampled for sign and finiteness. */
@@ -291,7 +293,7 @@ function deriveWeight(spec: LossSpec): DeriveResult {
   const bayes = negative ? numericBayes(risk) : (eta: number) => risk(eta, eta);
   notes.push("Partial losses by the integral representation l1(q) = ∫_q^1 (1−c)w(c)dc, l0(q) = ∫_0^q c·w(c)dc, tabulated with local Gauss–Kronrod completion.");
   const link = probabilityLink(spec, w, null, findings, notes);
-  return { fns: assemble(spec, { l1, l0, dl1, dl0, bayes, weight: w, link, notes }), findings };
+  return { fns: assemble(spec, { l1, l0, dl1, dl0, bayes, weight: w, weightExact: true, link, notes }), findings };
 }
 
 function deriveMargin(spec: LossSpec): DeriveResult {

@@ -130,6 +130,11 @@ export interface LossFunctions {
   bayes: RealFn;
   /** Weight function w = −H'' where it exists as a function (closed form or numeric); null if unavailable. */
   weight: RealFn | null;
+  /**
+   * True when `weight` comes from closed forms (the user's weight clause, or symbolic derivatives), so a
+   * positive value is real curvature and not difference noise; checks may then trust its sign.
+   */
+  weightExact?: boolean;
   /** Link ψ: q ↦ v, its derivative, and its inverse, for composite and margin losses. */
   link: RealFn | null;
   dlink: RealFn | null;

@@ -150,7 +150,7 @@ export const JUMP_OFFSETS: readonly number[] = [1e-10, 1e-7, 1e-5, 1e-4, 1e-3, 2
  * towards the half that deviates most from that prediction. A jump keeps its deviation at every level,
  * a smooth change loses it in proportion to the width.
  */
-function jumpPoints(fns: LossFunctions, t: Table): number[] {
+function jumpPoints(fns: LossFunctions, t: Table, deadline: number): number[] {
   const extra: number[] = [];
   const n = t.qs.length;
   for (const [vals, f] of [[t.l1, fns.l1], [t.l0, fns.l0]] as const) {
@@ -160,6 +160,8 @@ function jumpPoints(fns: LossFunctions, t: Table): number[] {
     };
     let found = 0;
     for (let j = 0; j + 1 < n && found < MAX_JUMPS; j++) {
+      // Past the deadline the probe stops; the search that follows reports the time-out.
+      if ((j & 15) === 0 && Date.now() > deadline) return extra;
       if (!t.interior[j] || !t.interior[j + 1]) continue;
       let lo = t.qs[j]!;
       let hi = t.qs[j + 1]!;
@@ -412,8 +414,9 @@ function stationarityFinding(fns: LossFunctions, t: Table, form: LossSpec["form"
   };
   let pick: { q: number; r1: number; r0: number } | null = null;
   const inner = hint.filter((q) => q >= 0.01 && q <= 0.99);
-  const sortedHints = (inner.length > 0 ? inner : hint).sort((a, b) => Math.abs(a - nearEta) - Math.abs(b - nearEta));
-  for (const q of sortedHints) {
+  // Evidence inside [0.01, 0.99] reads better than a point next to an endpoint, where both ratios blow up.
+  const byDistance = (xs: number[]) => [...xs].sort((a, b) => Math.abs(a - nearEta) - Math.abs(b - nearEta));
+  for (const q of byDistance(inner)) {
     pick = ratios(q);
     if (pick) break;
   }
@@ -428,6 +431,12 @@ function stationarityFinding(fns: LossFunctions, t: Table, form: LossSpec["form"
         worst = d;
         pick = r;
       }
+    }
+  }
+  if (!pick) {
+    for (const q of byDistance(hint)) {
+      pick = ratios(q);
+      if (pick) break;
     }
   }
   if (!pick) return null;
@@ -543,6 +552,25 @@ interface FlatRun {
   b: number;
 }
 
+/** Interior probes of a candidate flat interval at which a closed-form weight is evaluated. */
+export const FLAT_WEIGHT_PROBES = 16;
+
+/**
+ * True when a closed-form weight is strictly positive inside (a, b): then H is strictly concave there and
+ * the interval is not affine, however small the partial losses' variation (a weight vanishing like
+ * (1−q)^4 at an endpoint makes l1 and l0 vary by ~1e-13 near it). Strict properness holds iff w puts mass
+ * on every open set (Reid & Williamson 2010, text after Thm 6, attributed to Buja, Stuetzle & Shen 2005).
+ */
+function exactWeightPositive(fns: LossFunctions, a: number, b: number): boolean {
+  if (!fns.weightExact || !fns.weight) return false;
+  for (let i = 1; i <= FLAT_WEIGHT_PROBES; i++) {
+    const x = a + ((b - a) * i) / (FLAT_WEIGHT_PROBES + 1);
+    const w = fns.weight(x);
+    if (!(Number.isFinite(w) && w > 0)) return false;
+  }
+  return true;
+}
+
 /**
  * Intervals where H is affine (w has no mass): consecutive grid cells whose mean weight 2R/(b−a)² is
  * negligible against the loss's scale, merged into runs, confirmed from the closures, and with ends
@@ -606,7 +634,7 @@ function findFlatIntervals(fns: LossFunctions, t: Table): FlatRun[] {
       hi0 = Math.max(hi0, t.l0[i]!);
     }
     const drift = Math.max(hi1 - lo1, hi0 - lo0) <= varTol;
-    if (b - a >= FLAT_MIN_WIDTH && drift && flatBetween(a, b)) {
+    if (b - a >= FLAT_MIN_WIDTH && drift && flatBetween(a, b) && !exactWeightPositive(fns, a, b)) {
       // Refine the ends towards the neighbouring (non-flat) cells.
       if (j > 0) {
         let lo = t.qs[j - 1]!;
@@ -690,7 +718,7 @@ function analyseSpec(spec: LossSpec, deadline: number, seed: number, resolution:
   );
   // Weight-form partial losses are integrals (continuous) and margin ones are costly to probe; jumps are sought in the others.
   const probeJumps = spec.form === "partials" || spec.form === "score-partials" || spec.form === "bayes";
-  const table = probeJumps ? extendTable(fns, coarse, jumpPoints(fns, coarse)) : coarse;
+  const table = probeJumps ? extendTable(fns, coarse, jumpPoints(fns, coarse, deadline)) : coarse;
   const s = searchCounterexample(fns, table, deadline);
   const clauseOf = (which: "l1" | "l0") => (spec.form === "partials" || spec.form === "score-partials" ? which : primaryClause(spec.form));
   if (s.nonFinite) {
@@ -744,6 +772,11 @@ function analyseSpec(spec: LossSpec, deadline: number, seed: number, resolution:
       message: `Cannot decide properness: ${s.nonFinite.which} is not finite at q = ${fmt(s.nonFinite.q)}, and no counterexample was found elsewhere.`,
     });
     return { ...base, verdict: "unknown", findings, fns, table };
+  }
+  if (full && Date.now() > deadline) {
+    // No counterexample was found, but strictness was not examined: claim only properness and say why.
+    findings.push({ code: "analysis-unknown", clause: "loss", message: "Strict properness not decided: the time limit was reached before the Bayes risk was examined for affine pieces." });
+    return { ...base, verdict: "proper", findings, fns, table };
   }
   const runs = full ? findFlatIntervals(fns, table) : [];
   if (runs.length > 0) {
@@ -999,7 +1032,7 @@ export function analyseProperness(family: LossFamily, options: PropernessOptions
       const conv = checkCompositeConvexity(fns, core.verdict === "strictly-proper", spec.d2link ?? null);
       result.findings.push(...conv.findings);
     }
-    if (fns && core.verdict === "improper" && core.counterexample && core.table) {
+    if (fns && core.verdict === "improper" && core.counterexample && core.table && Date.now() <= deadline) {
       const table = core.table;
       // The minimiser curve is sampled for every improper loss (also when it sits at the endpoints and no recovery exists).
       result.minimiser = { etas: [...RECOVERY_ETAS], qs: RECOVERY_ETAS.map((eta) => minimiseRisk(fns!, eta, table).q) };

@@ -9,6 +9,7 @@ import * as path from "node:path";
 import { parseArgs } from "node:util";
 import { analyseDocument, type DocumentAnalysis } from "../service/document.js";
 import { toJsonFile, toSarif, toTextLines } from "../service/check-report.js";
+import { runReport } from "./report.js";
 import { runGen } from "./gen.js";
 
 export const VERSION = "0.1.0";
@@ -43,6 +44,8 @@ const HELP = `propriety ${VERSION} — check classification losses written in th
 
 Usage:
   propriety check [--json | --sarif] FILE|DIR…   check properness, curvature and claims
+  propriety report FILE|DIR… --out report.html [--png DIR] [--svg DIR]
+                                                  one self-contained HTML page with figures and curves
   propriety gen --target torch|jax|numpy|ts FILE  generate training code (see 'propriety gen --help')
   propriety --help | --version
 
@@ -52,6 +55,11 @@ check:
   --json   one JSON object: files, diagnostics (0-based LSP ranges), per-loss figures
   --sarif  a SARIF 2.1.0 log for code-scanning tools
   Exit status: 0 no errors, 1 errors found, 2 usage or I/O error.
+
+report:
+  Every loss's verdict, λ, modulus, bound exponents, inverse table and curves; no network needed.
+  --png/--svg DIR also export each chart (needs Chromium: /usr/bin/chromium or $PROPRIETY_CHROMIUM).
+  Exit status: 0 written, 2 usage, I/O or export error.
 `;
 
 export class UsageError extends Error {}
@@ -70,6 +78,8 @@ export async function main(argv: string[], io: CliIo = nodeIo): Promise<number> 
     switch (command) {
       case "check":
         return runCheck(rest, io);
+      case "report":
+        return await runReport(rest, io);
       case "gen":
         return runGen(rest, io);
       default:

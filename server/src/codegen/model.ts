@@ -402,10 +402,16 @@ function lower(report: LossReport, options: LowerOptions): LoweredLoss {
   let recover: LoweredLoss["recover"] = null;
   let recoverNote: string | null = null;
   if (engine.improper) {
-    const monotone = report.analysis?.recovery?.monotone;
-    const eligible = monotone === true || ((monotone === undefined || report.analysis?.recovery === null) && form === "partials");
+    // `recovery` undefined: the engine does not report it (yet), so partial losses get the map on the
+    // verdict alone; null: the engine found no map; otherwise it must report a monotone minimiser.
+    const reported = report.analysis?.recovery;
+    const eligible = reported === undefined ? form === "partials" : reported !== null && reported.monotone;
     if (!eligible) {
-      recoverNote = monotone === false ? "the engine reports a minimiser q*(η) that is not monotone, so no recovery map exists" : "a recovery map is generated only for partial losses on probabilities";
+      recoverNote = reported === null
+        ? "the engine finds no posterior-recovery map (the risk minimiser q*(η) does not determine η)"
+        : reported !== undefined && !reported.monotone
+          ? "the engine reports a minimiser q*(η) that is not monotone, so no recovery map exists"
+          : "a recovery map is generated only for partial losses on probabilities";
     } else if (natural !== "q") {
       recoverNote = "a recovery map is generated only for partial losses on probabilities";
     } else {

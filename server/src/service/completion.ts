@@ -97,9 +97,14 @@ function expressionItems(doc: DocumentAnalysis, offset: number, loss: LossInfo |
   if (clause?.variable) variable = clause.variable.name;
   const m = /^\s*([\p{L}_][\p{L}\p{N}_]*)\s*\(\s*([\p{L}_][\p{L}\p{N}_]*)\s*\)\s*=/u.exec(lineBefore);
   if (m) variable = m[2]!;
-  const def = [...model.defs.values()].find((d) => touches(d.decl.span, offset))?.decl;
+  const parsedDef = [...model.defs.values()].find((d) => touches(d.decl.span, offset))?.decl;
+  // A helper whose body is still being typed may not parse yet: read its header from the line.
+  const header = /^\s*def\s+([\p{L}_][\p{L}\p{N}_]*)\s*\(([^)]*)\)\s*=/u.exec(lineBefore);
+  const def = parsedDef
+    ? { name: parsedDef.name.name, params: parsedDef.params.map((p) => p.name) }
+    : header ? { name: header[1]!, params: header[2]!.split(",").map((p) => p.trim()).filter((p) => p.length > 0) } : null;
   if (def) {
-    for (const p of def.params) out.push({ label: p.name, kind: "parameter", detail: `parameter of ${def.name.name}`, sortGroup: 0 });
+    for (const p of def.params) out.push({ label: p, kind: "parameter", detail: `parameter of ${def.name}`, sortGroup: 0 });
   } else if (variable) {
     out.push({ label: variable, kind: "variable", detail: variable === "q" ? "clause variable: probability" : "clause variable: score", sortGroup: 0 });
   }
@@ -111,7 +116,7 @@ function expressionItems(doc: DocumentAnalysis, offset: number, loss: LossInfo |
     out.push({ label: n, kind: "parameter", detail: `global parameter = ${p.value ?? "?"}`, documentation: p.decl.doc ?? undefined, sortGroup: 1 });
   }
   for (const [n, d] of model.defs) {
-    if (def && n === def.name.name) continue;
+    if (def && n === def.name) continue;
     const params = d.decl.params.map((p) => p.name);
     out.push({
       label: n, kind: "helper", detail: `def ${n}(${params.join(", ")})${d.decl.body ? ` = ${printExpr(d.decl.body)}` : ""}`,

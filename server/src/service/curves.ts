@@ -205,6 +205,9 @@ function curvesForLoss(report: LossReport, overrides: Record<string, number>, et
     lambda: improper ? null : curvature.lambda,
     modulus: improper ? null : curvature.modulus,
     exponents: improper ? { viaModulus: null, direct: null } : { viaModulus: curvature.exponents.viaModulus, direct: curvature.exponents.direct },
+    inverseTable: improper ? [] : curvature.inverseTable.map((r) => ({ ...r })),
+    exponentNote: improper ? null : curvature.exponents.explanation,
+    units: { decisionRegret: curvature.units.decisionRegret, surrogateRegret: curvature.units.surrogateRegret },
   };
   const summary = !overridden && report.analysis && report.analysis.verdict !== "unknown" ? report.analysis.summary : `${verdictText(verdict)} · ${improper ? "no regret bound" : curvature.summary}`;
 
