@@ -77,7 +77,9 @@ export interface ChartSize {
 
 export const DEFAULT_SIZE: ChartSize = { width: 460, height: 290 };
 
-const MARGIN = { top: 28, right: 14, bottom: 44, left: 62 };
+const MARGIN = { top: 40, right: 14, bottom: 44, left: 62 };
+/** Rough width of a legend character at 10px (placement only; no text measuring in a pure function). */
+const LEGEND_CHAR_PX = 5.6;
 /** Pixel coordinates are clamped to this (an unbounded curve must not produce absurd path numbers). */
 const PIXEL_LIMIT = 1e5;
 
@@ -190,7 +192,7 @@ export function buildChartSpecs(losses: LossCurves[], view: ViewState, only?: re
         lines,
         markers,
         rules: etaShown === null ? [] : [{ axis: "x", value: etaShown, colour: null, label: `η = ${formatNumber(etaShown, 3)}` }],
-        styles: [{ dash: 0, label: "L(η, q); dot: minimiser" }],
+        styles: [{ dash: 0, label: "L(η, q) — dot: its minimiser q*, dashed rule: q = η" }],
         empty: none,
       });
     }
@@ -210,7 +212,7 @@ export function buildChartSpecs(losses: LossCurves[], view: ViewState, only?: re
         markers: mMarkers,
         rules: [],
         diagonal: true,
-        styles: [{ dash: 0, label: "q*(η); thin diagonal: q = η (proper)" }],
+        styles: [{ dash: 0, label: "q*(η) — dotted diagonal: q* = η (proper)" }],
         empty: none,
       });
     }
@@ -219,8 +221,8 @@ export function buildChartSpecs(losses: LossCurves[], view: ViewState, only?: re
     specs.push({
       id: "bayes",
       title: "Bayes risk",
-      xLabel: probabilityAxis,
-      yLabel: "H(q) (units of the loss)",
+      xLabel: "η (true probability)",
+      yLabel: "H(η) (units of the loss)",
       xScale: "linear",
       yScale: "linear",
       xDomain: [0, 1],
@@ -228,7 +230,7 @@ export function buildChartSpecs(losses: LossCurves[], view: ViewState, only?: re
       lines: visible.flatMap(({ l, colour }) => (l.bayes ? [line(l.loss, colour, 0, l.bayes)] : [])),
       markers: [],
       rules: [],
-      styles: [{ dash: 0, label: "H(q) = min over q' of L(q, q')" }],
+      styles: [{ dash: 0, label: "H(η) = min over q of L(η, q)" }],
       empty: none,
     });
   }
@@ -247,7 +249,7 @@ export function buildChartSpecs(losses: LossCurves[], view: ViewState, only?: re
       lines,
       markers: [],
       rules: thresholds.map((c) => ({ axis: "x" as const, value: c, colour: null, label: `c = ${formatNumber(c, 3)}` })),
-      styles: [{ dash: 0, label: "w(q); rule: decision threshold c" }],
+      styles: [{ dash: 0, label: "w(q) — dashed rule: decision threshold c" }],
       empty: none ?? (lines.length === 0 ? "no weight curve (improper or not available)" : undefined),
     });
   }
@@ -404,7 +406,7 @@ export function renderChartSvg(spec: ChartSpec, size: ChartSize = DEFAULT_SIZE, 
   out.push(`<title>${escapeXml(spec.title)}</title>`);
   out.push(`<defs><clipPath id="${clipId}"><rect x="${x0}" y="${y1}" width="${x1 - x0}" height="${y0 - y1}"/></clipPath></defs>`);
   out.push(`<rect class="plot-bg" x="${x0}" y="${y1}" width="${x1 - x0}" height="${y0 - y1}"/>`);
-  out.push(`<text class="chart-title" x="${x0}" y="${MARGIN.top - 10}">${escapeXml(spec.title)}</text>`);
+  out.push(`<text class="chart-title" x="${x0}" y="15">${escapeXml(spec.title)}</text>`);
 
   // Grid and ticks.
   const xt = tickValues(sx, spec.xScale, 6);
@@ -436,7 +438,7 @@ export function renderChartSvg(spec: ChartSpec, size: ChartSize = DEFAULT_SIZE, 
     const cls = `rule${r.colour === null ? "" : ` c${r.colour}`}`;
     if (r.axis === "x") {
       const px = clampPixel(sx(r.value)).toFixed(1);
-      out.push(`<line class="${cls}" data-rule="${escapeXml(r.label)}" x1="${px}" x2="${px}" y1="${y1}" y2="${y0}"/><text class="rule-label" x="${px}" y="${y1 + 12}" dx="3">${escapeXml(r.label)}</text>`);
+      out.push(`<line class="${cls}" data-rule="${escapeXml(r.label)}" x1="${px}" x2="${px}" y1="${y1}" y2="${y0}"/><text class="rule-label" x="${px}" y="${y0 - 5}" dx="3">${escapeXml(r.label)}</text>`);
     } else {
       const py = clampPixel(sy(r.value)).toFixed(1);
       out.push(`<line class="${cls}" data-rule="${escapeXml(r.label)}" x1="${x0}" x2="${x1}" y1="${py}" y2="${py}"/>`);
@@ -458,13 +460,14 @@ export function renderChartSvg(spec: ChartSpec, size: ChartSize = DEFAULT_SIZE, 
   if (spec.lines.length === 0 && spec.empty) {
     out.push(`<text class="empty" x="${(x0 + x1) / 2}" y="${(y0 + y1) / 2}" text-anchor="middle">${escapeXml(spec.empty)}</text>`);
   }
-  // Line-style legend (colours are the losses, shown in the page legend).
+  // Line-style legend under the title (colours are the losses, shown in the page legend).
   if (spec.lines.length > 0 && spec.styles.length > 0) {
     out.push(`<g class="style-legend">`);
-    let y = y1 + 12;
-    for (const s of spec.styles) {
-      out.push(`<line class="legend-sample d${s.dash}" x1="${x1 - 150}" x2="${x1 - 128}" y1="${y - 4}" y2="${y - 4}"/><text class="legend-text" x="${x1 - 124}" y="${y}">${escapeXml(s.label)}</text>`);
-      y += 13;
+    let x = x0;
+    const y = 31;
+    for (const st of spec.styles) {
+      out.push(`<line class="legend-sample d${st.dash}" x1="${x}" x2="${x + 20}" y1="${y - 3.5}" y2="${y - 3.5}"/><text class="legend-text" x="${x + 24}" y="${y}">${escapeXml(st.label)}</text>`);
+      x += 24 + st.label.length * LEGEND_CHAR_PX + 14;
     }
     out.push(`</g>`);
   }

@@ -1,11 +1,12 @@
 /**
  * The VS Code extension: starts the language server (dist/server.js) over IPC for `.loss` documents,
- * forwards the `propriety.*` settings, and registers the commands and the status-bar summary.
+ * forwards the `propriety.*` settings, and registers the commands, the curve viewer and the status-bar summary.
  */
 import * as path from "node:path";
 import * as vscode from "vscode";
 import { LanguageClient, TransportKind, type LanguageClientOptions, type ServerOptions } from "vscode-languageclient/node";
 import { registerCommands } from "./commands.js";
+import { openCurveViewer, registerCurveViewer } from "./curve-viewer.js";
 import { readSettings } from "./settings.js";
 import { registerStatusBar } from "./status-bar.js";
 
@@ -25,7 +26,8 @@ export async function activate(context: vscode.ExtensionContext): Promise<void> 
   };
   client = new LanguageClient("propriety", "Propriety", serverOptions, clientOptions);
   await client.start();
-  registerCommands(context, client, null);
+  registerCommands(context, client, openCurveViewer);
+  registerCurveViewer(context, client);
   registerStatusBar(context, client);
 }
 

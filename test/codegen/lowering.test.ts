@@ -147,10 +147,10 @@ describe("identifier sanitising", () => {
   });
 
   const BAD_NAMES = `param class = 2 in [1, 3]
-param exp_ = 1
+param abs = 1
 loss lambda {
   l1(q) = class * (1 - q)^2
-  l0(q) = class * q^2
+  l0(q) = class * abs * q^2
 }
 loss sum {
   l1(q) = (1 - q)^2
@@ -169,7 +169,9 @@ loss Math {
     if (!r.ok) return;
     expect(r.code).toMatch(/^def lambda_\(pred, target, weight=None, reduction="mean"\):/m);
     expect(r.code).toMatch(/^def sum_\(/m);
-    expect(r.code).toContain("parameters (baked in): class = 2");
+    expect(r.code).toContain("parameters (baked in): class = 2, abs = 1");
+    // Parameters are baked in as numbers, so a parameter named like a keyword or built-in never becomes an identifier.
+    expect(r.code).not.toMatch(/\bclass\b\s*\*/);
     if (!pythonHas("numpy")) ctx.skip("python3 cannot import numpy: the module is not executed");
     const [a, b] = runNumpy(r.code, [
       { fn: "lambda_", args: [[0.25], [1]], kwargs: { reduction: "sum" } },
@@ -264,6 +266,17 @@ loss hinge {
     expect(r).toEqual({ ok: false, message: expect.stringMatching(/score input needs a link/) });
     const hinge = generate(doc, { target: "numpy", loss: "hinge", input: "score", allowImproper: true });
     expect(hinge.ok && hinge.code.includes("np.maximum(0, 1 - v)")).toBe(true);
+  });
+
+  it("score input through the canonical link when asked: w = 1/(q(1−q)) has ψ = logit (RW10 §6.1), so the loss becomes softplus", () => {
+    const byWeight = analyseDocument("loss log_by_weight {\n  weight(q) = 1 / (q * (1 - q))\n}\n");
+    expect(generate(byWeight, { target: "jax", input: "score" })).toEqual({ ok: false, message: expect.stringMatching(/score input needs a link/) });
+    const r = generate(byWeight, { target: "jax", input: "score", link: "canonical" });
+    expect(r.ok).toBe(true);
+    if (r.ok) {
+      expect(r.code).toContain("loss = y * jax.nn.softplus(-v) + (1 - y) * jax.nn.softplus(v)");
+      expect(r.code).toMatch(/canonical link/);
+    }
   });
 
   it("unknown targets, unknown losses and files with errors are errors, not crashes", () => {

@@ -9,7 +9,7 @@ import { describe, expect, it } from "vitest";
 import { nearlyEqual } from "../../server/src/analysis/numeric.js";
 import { generate, type GenerateOptions } from "../../server/src/codegen/index.js";
 import { CLAMP_EPS } from "../../server/src/codegen/model.js";
-import { sigmoid, softplus } from "../../server/src/semantics/builtins.js";
+import { normcdf as normcdfRef, sigmoid, softplus } from "../../server/src/semantics/builtins.js";
 import { analyseDocument } from "../../server/src/service/document.js";
 import { decode, loadTs, pythonHas, runNumpy, SAMPLES_DIR } from "./support.js";
 
@@ -192,5 +192,54 @@ describe("posterior recovery for the focal loss", () => {
       ]);
       (decode(r!) as number[]).forEach((eta, i) => expect(Math.abs(eta - cs[i]!.eta)).toBeLessThan(RECOVERY_TOL));
     }
+  });
+});
+
+describe("special functions (erf, normcdf, probit) in NumPy helpers and TypeScript helpers", () => {
+  // Each side has its own erf/normcdf/probit implementation (NumPy: math.erf, math.erfc and
+  // statistics.NormalDist; TypeScript: the generated helpers); the engine uses server/src/semantics/builtins.ts.
+  // Two double-precision implementations agree to ~1e-15; 1e-12 leaves margin for the Halley-refined probit.
+  const SPECIAL_REL = 1e-12;
+  const SPECIAL = `loss special {
+  l1(q) = erf(1 - q) + probit(1 - q/2)
+  l0(q) = erf(q) + normcdf(q)
+}
+loss probit_link {
+  l1(q) = -ln(q)
+  l0(q) = -ln(1 - q)
+  link(q) = probit(q)
+}
+`;
+  const d = analyseDocument(SPECIAL);
+  const spec = d.losses[0]!.compiled!.family.instantiate({});
+  const link = d.losses[1]!.compiled!.family.instantiate({});
+  const qs = Array.from({ length: 50 }, (_, i) => 0.01 + (0.98 * i) / 49);
+  const vs = Array.from({ length: 50 }, (_, i) => -6 + (12 * i) / 49);
+  const wantQ = [...qs.map((q) => spec.l1!(q)), ...qs.map((q) => spec.l0!(q))];
+  // Score input through the probit link: q = normcdf(v), so l1 = −ln Φ(v) and l0 = −ln Φ(−v) (Φ(−v) = 1 − Φ(v)).
+  const wantV = [...vs.map((v) => link.l1!(normcdfRef(v))), ...vs.map((v) => -Math.log(normcdfRef(-v)))];
+  const target = (n: number) => [...new Array<number>(n).fill(1), ...new Array<number>(n).fill(0)];
+  const agree = (got: number[], want: number[]) => got.every((g, i) => nearlyEqual(g, want[i]!, SPECIAL_REL, 1e-15));
+
+  it("TypeScript", async () => {
+    const a = generate(d, { target: "ts", loss: "special", allowImproper: true });
+    const b = generate(d, { target: "ts", loss: "probit_link", input: "score", allowImproper: true });
+    if (!a.ok || !b.ok) throw new Error(`${a.ok ? "" : a.message} ${b.ok ? "" : b.message}`);
+    const ma = await loadTs(a.code);
+    const mb = await loadTs(b.code);
+    expect(agree(Array.from(ma.special!([...qs, ...qs], target(qs.length), { reduction: "none" }) as Float64Array), wantQ)).toBe(true);
+    expect(agree(Array.from(mb.probitLink!([...vs, ...vs], target(vs.length), { reduction: "none" }) as Float64Array), wantV)).toBe(true);
+  });
+
+  it("NumPy", (ctx) => {
+    if (!HAS_NUMPY) ctx.skip("python3 cannot import numpy: not executed");
+    const a = generate(d, { target: "numpy", loss: "special", allowImproper: true });
+    const b = generate(d, { target: "numpy", loss: "probit_link", input: "score", allowImproper: true });
+    if (!a.ok || !b.ok) throw new Error("generation failed");
+    expect(a.code).toMatch(/^import math\nimport statistics\n\nimport numpy as np$/m);
+    const [ra] = runNumpy(a.code, [{ fn: "special", args: [[...qs, ...qs], target(qs.length)], kwargs: { reduction: "none" } }]);
+    const [rb] = runNumpy(b.code, [{ fn: "probit_link", args: [[...vs, ...vs], target(vs.length)], kwargs: { reduction: "none" } }]);
+    expect(agree(decode(ra!) as number[], wantQ)).toBe(true);
+    expect(agree(decode(rb!) as number[], wantV)).toBe(true);
   });
 });

@@ -64,6 +64,8 @@ export interface ParamRange {
   /** Declared range; absent when the parameter has no `in [lo, hi]`. */
   lo?: number;
   hi?: number;
+  /** True when the parameter only enters the decision threshold (it cannot change properness). */
+  thresholdOnly?: boolean;
 }
 
 /** An `expect` claim as written (index = position among the loss's claims). */

@@ -9,7 +9,7 @@
  * Bao 2023, "Proper Losses, Moduli of Convexity, and Surrogate Regret Bounds", COLT (§2): proper means
  * L(η, η) = inf_q L(η, q) for all η; strictly proper means q = η is the unique minimiser.
  */
-import type { Claim, Finding, LossFamily, LossFunctions, LossSpec, ParamRange } from "./loss-model.js";
+import type { Claim, Finding, LossFamily, LossFunctions, LossSpec, ParamRange, RealFn } from "./loss-model.js";
 import { fmt, goldenMin, linspace, probabilityGrid, seededRandom } from "./numeric.js";
 import { deriveLossFunctions, internalError } from "./derive.js";
 import { computeRecovery, minimiseRisk, RECOVERY_ETAS, type RecoveryMap, type RiskTable } from "./recovery.js";
@@ -795,7 +795,9 @@ function analyseSpec(spec: LossSpec, deadline: number, seed: number, resolution:
 
 /** A parameter with a declared range. */
 function rangedParams(family: LossFamily): (ParamRange & { lo: number; hi: number })[] {
-  return family.params.filter((p): p is ParamRange & { lo: number; hi: number } => p.lo !== undefined && p.hi !== undefined && p.hi >= p.lo);
+  return family.params.filter(
+    (p): p is ParamRange & { lo: number; hi: number } => p.lo !== undefined && p.hi !== undefined && p.hi >= p.lo && !p.thresholdOnly,
+  );
 }
 
 function defaultsOf(family: LossFamily): Record<string, number> {
@@ -812,9 +814,41 @@ interface SweepPoint {
   counterexample: Counterexample | null;
 }
 
+/** Probe points near each endpoint for the power-law integrability test of a weight function. */
+const WEIGHT_EDGE_PROBES = [1e-8, 1e-6] as const;
+/** Local exponents this close to the borderline −1 are left to the full analysis. */
+export const WEIGHT_EXPONENT_MARGIN = 0.05;
+
+/**
+ * A fast sweep verdict for a weight-defined loss: every w ≥ 0 whose integrals l1, l0 converge defines a
+ * proper loss (Reid & Williamson 2010, Thm 6), so sampling the sign of w and the local power of c·w(c)
+ * at 0 and (1−c)·w(c) at 1 suffices. Returns null (use the full analysis) when in doubt.
+ */
+function quickWeightStatus(w: RealFn): Status | null {
+  for (const q of probabilityGrid(100, 6)) {
+    const y = w(q);
+    if (!Number.isFinite(y) || y < 0) return null;
+  }
+  const [near, far] = WEIGHT_EDGE_PROBES;
+  for (const edge of [0, 1] as const) {
+    const g = (t: number) => t * w(edge === 0 ? t : 1 - t);
+    const a = g(near);
+    const b = g(far);
+    if (a === 0 && b === 0) continue;
+    if (!(a > 0 && b > 0)) return null;
+    const k = Math.log(b / a) / Math.log(far / near);
+    if (!Number.isFinite(k) || k <= -1 + WEIGHT_EXPONENT_MARGIN) return null;
+  }
+  return "proper";
+}
+
 function statusAt(family: LossFamily, values: Record<string, number>, deadline: number, seed: number): SweepPoint {
   try {
     const spec = family.instantiate(values);
+    if (spec.form === "weight" && spec.weight) {
+      const quick = quickWeightStatus(spec.weight);
+      if (quick) return { values, status: quick, counterexample: null };
+    }
     const r = analyseSpec(spec, deadline, seed, SWEEP_RESOLUTION, false);
     const status: Status = r.verdict === "improper" ? "improper" : r.verdict === "unknown" ? "unknown" : "proper";
     return { values, status, counterexample: r.counterexample };

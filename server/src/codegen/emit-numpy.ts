@@ -50,12 +50,13 @@ const HELPERS: Record<string, string[]> = {
 const target: PyTarget = {
   target: "numpy",
   dialect,
-  imports: ["import math", "import statistics", "", "import numpy as np"],
+  imports: ["import numpy as np"],
   notes: ["NumPy: inputs are converted to float64 arrays; <name>_grad gives the gradient in closed form."],
   asArray: (p) => `np.asarray(${p}, dtype=float)`,
   labels: (t) => `np.asarray(${t}, dtype=float)`,
   clamp: (x, lo, hi) => `np.clip(${x}, ${lo ?? "None"}, ${hi ?? "None"})`,
   helperSources: HELPERS,
+  helperImports: { _erf: ["import math"], _normcdf: ["import math"], _probit: ["import math", "import statistics"] },
   gradients: true,
 };
 

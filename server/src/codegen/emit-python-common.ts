@@ -176,6 +176,8 @@ export interface PyTarget {
   clamp(x: string, lo: string | null, hi: string | null): string;
   /** Source of the module-level helpers, by helper name. */
   helperSources: Record<string, string[]>;
+  /** Extra imports a helper needs (added only when the helper is used). */
+  helperImports?: Record<string, string[]>;
   /** Emit `<name>_grad` functions (closed-form gradients in pred). */
   gradients: boolean;
 }
@@ -277,7 +279,10 @@ export function emitPythonModule(input: EmitInput, t: PyTarget, sanitise: (n: st
     ...t.notes,
     ...input.skipped.map((s) => `not generated: \`${s.name}\`: ${s.reason}`),
   ]));
-  lines.push(...t.imports, "");
+  const extra = new Set<string>();
+  for (const h of used) for (const imp of t.helperImports?.[h] ?? []) extra.add(imp);
+  // Standard-library imports first, then the array library (PEP 8 grouping).
+  lines.push(...[...extra].sort(), ...(extra.size > 0 ? [""] : []), ...t.imports, "");
   if (needsEps) {
     lines.push(...pyComment([`Clamping bound for probabilities where a singularity remains: 1e-7 suits float32 (machine epsilon 1.19e-7),`, "so 1 - EPS is still below 1 and the logarithms stay finite."]));
     lines.push(`EPS = ${pyNumber(CLAMP_EPS_VALUE)}`, "");

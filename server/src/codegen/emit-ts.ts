@@ -76,8 +76,9 @@ export function printTs(e: Expr, used: Set<string>): string {
         }
         if (HELPER_CALLS.has(x.callee)) {
           used.add(x.callee);
-          if (x.callee === "erf" || x.callee === "normcdf") used.add("erfc");
-          if (x.callee === "probit") used.add("erfc").add("normcdf");
+          // erf and erfc call each other; normcdf uses both; probit refines through normcdf.
+          if (x.callee === "erf" || x.callee === "normcdf" || x.callee === "probit") used.add("erf").add("erfc");
+          if (x.callee === "probit") used.add("normcdf");
           return [`${x.callee}(${args.join(", ")})`, LEVEL.atom];
         }
         const m = MATH[x.callee];

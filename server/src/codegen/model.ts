@@ -491,7 +491,7 @@ export function lossHeaderLines(loss: LoweredLoss, source: string, functionName:
   lines.push(loss.input === "prob" ? "input: pred holds probabilities q in [0, 1]" : "input: pred holds scores v (real numbers)");
   if (loss.linkNote) lines.push(`link: ${loss.linkNote}`);
   lines.push(`partial losses: y = 1: ${loss.formulaPos}; y = 0: ${loss.formulaNeg}`);
-  lines.push(`clamping: ${clampText(loss.clamp, "q")}`);
+  lines.push(`clamping: ${loss.input === "score" ? "none (scores are used as given)" : clampText(loss.clamp, "q")}`);
   return lines;
 }
 

@@ -4,6 +4,7 @@
  * numerical libraries):
  *
  * - ln(sigmoid(x)) → −softplus(−x);  1 − sigmoid(x) → sigmoid(−x) (so ln(1 − sigmoid(x)) → −softplus(x));
+ * - 1 − normcdf(x) → normcdf(−x) (the upper tail without cancellation);
  * - ln(1 + exp(x)) and log1p(exp(x)) → softplus(x);  ln(exp(a) + exp(b)) → a + softplus(b − a) (log-sum-exp);
  * - ln(1 ± x) → log1p(±x);  exp(x) − 1 → expm1(x);  ln(exp(x)) → x;
  * - 1/(1 + exp(u)) → sigmoid(−u);  exp(u)/(1 + exp(u)) → sigmoid(u);  sigmoid(−x)/sigmoid(x) → exp(−x);
@@ -111,6 +112,7 @@ function rewriteRoot(e: Expr): Expr | null {
       if (isCall(a, "exp")) return call("softplus", arg0(a));
       const n = negOf(a);
       if (n !== null && isCall(n, "sigmoid")) return neg(call("softplus", arg0(n)));
+      if (n !== null && isCall(n, "normcdf")) return call("ln", call("normcdf", negate(arg0(n))));
       return null;
     }
     if (f === "sigmoid" && isCall(a, "logit")) return arg0(a);
@@ -126,6 +128,7 @@ function rewriteRoot(e: Expr): Expr | null {
     const { left: l, right: r } = e;
     if (e.op === "-") {
       if (isValue(l, 1) && isCall(r, "sigmoid")) return call("sigmoid", negate(arg0(r)));
+      if (isValue(l, 1) && isCall(r, "normcdf")) return call("normcdf", negate(arg0(r)));
       if (isValue(r, 1) && isCall(l, "exp")) return call("expm1", arg0(l));
     }
     if (e.op === "+" && isValue(r, -1) && isCall(l, "exp")) return call("expm1", arg0(l));

@@ -10,6 +10,10 @@ import {
 } from "vscode-languageserver/node";
 import { TextDocument } from "vscode-languageserver-textdocument";
 import type { Issue } from "../issue.js";
+import { generate, isTarget } from "../codegen/index.js";
+import { CURVES_REQUEST, GENERATE_REQUEST, type CurvesParams, type CurvesResult, type GenerateParams, type GenerateResult } from "../protocol.js";
+import { computeCurves } from "../service/curves.js";
+import { renderReport } from "../service/report.js";
 import { createLanguageService, type LanguageService, type ServiceSettings } from "../service/language-service.js";
 import { TOKEN_MODIFIERS, TOKEN_TYPES } from "../service/semantic-tokens.js";
 import {
@@ -22,6 +26,8 @@ export const DEFAULT_MAX_ANALYSED_LOSSES = 200;
 
 /** Custom request: the figures of the loss under the cursor, for the client's status bar. */
 export const LOSS_SUMMARY_REQUEST = "propriety/lossSummary";
+/** Custom request: a self-contained HTML report of one open document ({ uri } → { html } or null). */
+export const REPORT_REQUEST = "propriety/report";
 /** Custom notification: a full analysis of a document version was published. */
 export const ANALYSED_NOTIFICATION = "propriety/analysed";
 
@@ -56,13 +62,13 @@ export function toServiceSettings(s: ClientSettings | undefined): Partial<Servic
   return out;
 }
 
-/** Optional service modules written by other parts of the project, looked up at start-up. */
-export interface OptionalHandlers {
-  /** Registered under their method names; each receives (params, documents text lookup). */
-  [method: string]: (params: unknown, getText: (uri: string) => { text: string; version: number } | null) => unknown;
+/** What the server needs from its host process (file access stays in main.ts). */
+export interface ServerHost {
+  /** Text of the report page script and stylesheet (dist/report-page.js, dist/viewer.css), or null when not built. */
+  readReportAssets?(): { script: string; css: string } | null;
 }
 
-export function startServer(connection: Connection, extra: OptionalHandlers = {}): void {
+export function startServer(connection: Connection, host: ServerHost = {}): void {
   const documents = new TextDocuments(TextDocument);
   const log = (m: string) => connection.console.log(m);
   const service: LanguageService = createLanguageService({ maxAnalysedLosses: DEFAULT_MAX_ANALYSED_LOSSES }, (feature, err) => {
@@ -137,7 +143,7 @@ export function startServer(connection: Connection, extra: OptionalHandlers = {}
         scheduler = makeScheduler();
       }
     }
-    const customs = [LOSS_SUMMARY_REQUEST, ...Object.keys(extra)];
+    const customs = [LOSS_SUMMARY_REQUEST, CURVES_REQUEST, GENERATE_REQUEST, REPORT_REQUEST];
     return {
       capabilities: {
         textDocumentSync: TextDocumentSyncKind.Incremental,
@@ -296,13 +302,37 @@ export function startServer(connection: Connection, extra: OptionalHandlers = {}
     return a ? service.lossSummary(a.text, a.offset) : null;
   }));
 
-  const getText = (uri: string) => {
-    const d = documents.get(uri);
-    return d ? { text: d.getText(), version: d.version } : null;
-  };
-  for (const [method, handler] of Object.entries(extra)) {
-    connection.onRequest(method, guard(method, null, (p: unknown) => handler(p, getText)));
-  }
+  connection.onRequest(CURVES_REQUEST, guard<CurvesParams, CurvesResult | null>("curves", null, (p) => {
+    const doc = documents.get(p.uri);
+    if (!doc) return { uri: p.uri, version: null, losses: [], skipped: [] };
+    const result = computeCurves(service.analyseFull(doc.getText()), p);
+    result.version = doc.version;
+    return result;
+  }));
+
+  connection.onRequest(GENERATE_REQUEST, guard<GenerateParams, GenerateResult>("generate", { ok: false, code: null, message: "internal error while generating code", fileName: null }, (p) => {
+    const doc = documents.get(p.uri);
+    if (!doc) return { ok: false, code: null, message: "the document is not open", fileName: null };
+    if (!isTarget(p.target)) return { ok: false, code: null, message: `unknown target '${String(p.target)}'`, fileName: null };
+    const options: Parameters<typeof generate>[1] = { target: p.target, sourceName: decodeURIComponent(p.uri.split("/").pop() ?? p.uri) };
+    if (p.input) options.input = p.input;
+    if (p.loss) options.loss = p.loss;
+    if (p.allowImproper) options.allowImproper = true;
+    const r = generate(service.analyseFull(doc.getText()), options);
+    return r.ok ? { ok: true, code: r.code, message: null, fileName: r.fileName } : { ok: false, code: null, message: r.message, fileName: null };
+  }));
+
+  connection.onRequest(REPORT_REQUEST, guard<{ uri: string }, { html: string } | null>("report", null, (p) => {
+    const doc = documents.get(p.uri);
+    const assets = host.readReportAssets?.() ?? null;
+    if (!doc || !assets) return null;
+    const file = decodeURIComponent(p.uri.split("/").pop() ?? p.uri);
+    const html = renderReport([{ file, doc: service.analyseFull(doc.getText()) }], {
+      script: assets.script, css: assets.css, title: `Propriety report: ${file}`,
+      generatedAt: new Date().toISOString(), generator: "propriety 0.1.0 (language server)",
+    });
+    return { html };
+  }));
 
   documents.listen(connection);
   connection.listen();

@@ -4,7 +4,7 @@
  * `LossSpec`s at any parameter values; the engine never sees text.
  */
 import type { Claim, LossFamily, LossSpec, ParamRange, RealFn } from "../analysis/loss-model.js";
-import type { Expr } from "../syntax/ast.js";
+import { forEachExpr, type Expr } from "../syntax/ast.js";
 import { compileExpr, type Compiled } from "./compile.js";
 import type { ClauseName, LossInfo, SemanticModel } from "./model.js";
 import { differentiate, inlineDefs, NotDifferentiable } from "./symbolic.js";
@@ -75,6 +75,18 @@ export function compileLoss(model: SemanticModel, loss: LossInfo): CompiledLoss 
       d2: d2 ? compileExpr(d2, scope(variable)) : null,
     };
   }
+
+  // Parameters that appear only in `threshold` cannot change the partial losses.
+  const lossNames = new Set<string>();
+  for (const [name, f] of Object.entries(forms)) {
+    if (name === "threshold" || !f) continue;
+    forEachExpr(f.expr, (x) => {
+      if (x.kind === "name") lossNames.add(x.name);
+    });
+  }
+  params.forEach((p) => {
+    if (!lossNames.has(p.name)) p.thresholdOnly = true;
+  });
 
   const claims: Claim[] = loss.expects.map((e) => e.claim).filter((c): c is Claim => c !== null);
   const form = loss.form;

@@ -25,7 +25,7 @@ def _reduce(loss, weight, reduction):
 
 
 # loss `hinge_prob` from mistakes.loss (form: partial losses), generated as hinge_prob
-# WARNING: improper loss (the engine's verdict is improper): minimising it does not return calibrated probabilities. Map its predictions through hinge_prob_recover_posterior(q) to estimate the posterior.
+# WARNING: improper loss (the engine's verdict is improper): minimising it does not return calibrated probabilities. No recovery map: the engine finds no posterior-recovery map (the risk minimiser q*(η) does not determine η).
 # verdict: improper
 # lambda (inf of the weight function): not available
 # surrogate-regret exponents: via modulus not available; direct not available
@@ -46,16 +46,6 @@ def hinge_prob(pred, target, weight=None, reduction="mean"):
     y = jnp.asarray(target, dtype=q.dtype)
     loss = y * (2 * (1 - q)) + (1 - y) * (2 * q)
     return _reduce(loss, weight, reduction)
-
-
-def hinge_prob_recover_posterior(q):
-    """Posterior estimate eta = l0'(q) / (l0'(q) - l1'(q)) from a prediction q of the improper loss hinge_prob.
-
-    Reid & Williamson 2010, "Composite Binary Losses", JMLR 11, Cor. 12: at the risk minimiser q*(eta),
-    eta * l1'(q*) + (1 - eta) * l0'(q*) = 0. Valid where q*(eta) is monotone.
-    """
-    q = jnp.asarray(q)
-    return 0.5
 
 
 # loss `wrong_bayes` from mistakes.loss (form: partial losses), generated as wrong_bayes

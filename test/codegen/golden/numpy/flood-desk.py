@@ -2,9 +2,6 @@
 # Do not edit by hand: change the .loss file and regenerate.
 # Labels are y in {0, 1}; each function returns the reduced loss (or per-sample values with reduction="none").
 # NumPy: inputs are converted to float64 arrays; <name>_grad gives the gradient in closed form.
-import math
-import statistics
-
 import numpy as np
 
 # Clamping bound for probabilities where a singularity remains: 1e-7 suits float32 (machine epsilon 1.19e-7),
@@ -112,7 +109,7 @@ def brier_grad(pred, target, weight=None, reduction="mean"):
 
 
 # loss `alert_focus` from flood-desk.loss (form: weight function, integral form), generated as alert_focus
-# verdict: proper (not strictly)
+# verdict: strictly proper
 # lambda (inf of the weight function): 0
 # surrogate-regret exponents: via modulus 0.1666666667; direct 0.5
 # modulus of convexity: delta(eps) ~ 0.01614583556 * eps^6

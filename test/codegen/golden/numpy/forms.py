@@ -2,9 +2,6 @@
 # Do not edit by hand: change the .loss file and regenerate.
 # Labels are y in {0, 1}; each function returns the reduced loss (or per-sample values with reduction="none").
 # NumPy: inputs are converted to float64 arrays; <name>_grad gives the gradient in closed form.
-import math
-import statistics
-
 import numpy as np
 
 # Clamping bound for probabilities where a singularity remains: 1e-7 suits float32 (machine epsilon 1.19e-7),

@@ -6,9 +6,6 @@
 # not generated: `wrong_scale`: the loss `wrong_scale` has errors; fix them first (run `propriety check`)
 # not generated: `half_done`: the loss `half_done` has errors; fix them first (run `propriety check`)
 # not generated: `out_of_range`: the loss `out_of_range` has errors; fix them first (run `propriety check`)
-import math
-import statistics
-
 import numpy as np
 
 
@@ -37,7 +34,7 @@ def _reduce_grad(grad, weight, reduction):
 
 
 # loss `hinge_prob` from mistakes.loss (form: partial losses), generated as hinge_prob
-# WARNING: improper loss (the engine's verdict is improper): minimising it does not return calibrated probabilities. Map its predictions through hinge_prob_recover_posterior(q) to estimate the posterior.
+# WARNING: improper loss (the engine's verdict is improper): minimising it does not return calibrated probabilities. No recovery map: the engine finds no posterior-recovery map (the risk minimiser q*(η) does not determine η).
 # verdict: improper
 # lambda (inf of the weight function): not available
 # surrogate-regret exponents: via modulus not available; direct not available
@@ -71,16 +68,6 @@ def hinge_prob_grad(pred, target, weight=None, reduction="mean"):
     y = np.asarray(target, dtype=float)
     grad = y * (-2) + (1 - y) * (2)
     return _reduce_grad(grad, weight, reduction)
-
-
-def hinge_prob_recover_posterior(q):
-    """Posterior estimate eta = l0'(q) / (l0'(q) - l1'(q)) from a prediction q of the improper loss hinge_prob.
-
-    Reid & Williamson 2010, "Composite Binary Losses", JMLR 11, Cor. 12: at the risk minimiser q*(eta),
-    eta * l1'(q*) + (1 - eta) * l0'(q*) = 0. Valid where q*(eta) is monotone.
-    """
-    q = np.asarray(q, dtype=float)
-    return 0.5
 
 
 # loss `wrong_bayes` from mistakes.loss (form: partial losses), generated as wrong_bayes

@@ -71,7 +71,7 @@ def brier(pred, target, weight=None, reduction="mean"):
 
 
 # loss `alert_focus` from flood-desk.loss (form: weight function, integral form), generated as alert_focus
-# verdict: proper (not strictly)
+# verdict: strictly proper
 # lambda (inf of the weight function): 0
 # surrogate-regret exponents: via modulus 0.1666666667; direct 0.5
 # modulus of convexity: delta(eps) ~ 0.01614583556 * eps^6

@@ -49,7 +49,7 @@ function scaleGrad(grad: Float64Array, options: LossOptions): Float64Array {
 }
 
 // loss `hinge_prob` from mistakes.loss (form: partial losses), generated as hingeProb
-// WARNING: improper loss (the engine's verdict is improper): minimising it does not return calibrated probabilities. Map its predictions through hingeProbRecoverPosterior(q) to estimate the posterior.
+// WARNING: improper loss (the engine's verdict is improper): minimising it does not return calibrated probabilities. No recovery map: the engine finds no posterior-recovery map (the risk minimiser q*(η) does not determine η).
 // verdict: improper
 // lambda (inf of the weight function): not available
 // surrogate-regret exponents: via modulus not available; direct not available
@@ -84,12 +84,6 @@ export function hingeProbGrad(pred: ArrayLike<number>, target: ArrayLike<number>
     out[i] = y * (-2) + (1 - y) * (2);
   }
   return scaleGrad(out, options);
-}
-
-/** Posterior estimate eta = l0'(q)/(l0'(q) - l1'(q)) from a prediction q of the improper loss hingeProb (Reid & Williamson 2010, JMLR 11, Cor. 12). */
-export function hingeProbRecoverPosterior(pred: number): number {
-  const q = pred;
-  return 0.5;
 }
 
 // loss `wrong_bayes` from mistakes.loss (form: partial losses), generated as wrongBayes
