@@ -41,7 +41,9 @@ function newestMtime(dir: string): number {
 export async function ensureServerBuilt(): Promise<string> {
   const sources = Math.max(newestMtime(path.join(ROOT, "server", "src")), newestMtime(path.join(ROOT, "grammar")));
   if (existsSync(SERVER_JS) && statSync(SERVER_JS).mtimeMs >= sources) return SERVER_JS;
-  const { build } = await import("esbuild");
+  // A computed specifier keeps bundlers (scripts/bench.mjs) from trying to bundle esbuild itself.
+  const esbuild = "esbuild";
+  const { build } = (await import(esbuild)) as typeof import("esbuild");
   const tmp = `${SERVER_JS}.${process.pid}.tmp`;
   await build({
     entryPoints: [path.join(ROOT, "server", "src", "lsp", "main.ts")], outfile: tmp,
@@ -70,6 +72,8 @@ export interface StartOptions {
 export class LspTestClient {
   readonly diagnostics = new Map<string, PublishDiagnosticsParams>();
   readonly logs: string[] = [];
+  /** The latest version per document whose full (engine) analysis the server announced. */
+  readonly analysed = new Map<string, number>();
   private readonly versions = new Map<string, number>();
   private readonly waiters: { check: () => boolean; resolve: () => void }[] = [];
   initializeResult: InitializeResult | null = null;
@@ -86,7 +90,10 @@ export class LspTestClient {
       client.wake();
     });
     connection.onNotification("window/logMessage", (p: { message: string }) => void client.logs.push(p.message));
-    connection.onNotification("propriety/analysed", () => client.wake());
+    connection.onNotification("propriety/analysed", (p: { uri: string; version: number }) => {
+      client.analysed.set(p.uri, p.version);
+      client.wake();
+    });
     connection.onRequest("workspace/codeLens/refresh", () => null);
     connection.onRequest("client/registerCapability", () => null);
     connection.listen();

@@ -70,7 +70,10 @@ export function analyseFamily(family: LossFamily, options: AnalyseOptions = {}):
     return emptyAnalysis(defaults, 0.5, [{ code: "internal-error", clause: "loss", message: `internal error while instantiating the loss: ${String(err)}` }]);
   }
   const prop: PropernessResult = analyseProperness(family, { deadlineMs, ...(options.seed !== undefined ? { seed: options.seed } : {}) });
-  const findings: Finding[] = [...prop.findings];
+  const findings: Finding[] = prop.findings.map((f) =>
+    // The range sweep belongs with the verdict the user reads first ("improper for g > 0; proper at g = 0").
+    f.code === "improper" && prop.paramReport ? { ...f, message: `${f.message} Over the declared ranges: ${prop.paramReport}.`, data: { ...f.data, paramReport: prop.paramReport } } : f,
+  );
 
   // Curvature and bounds are about the Bayes risk of a proper loss; for an improper loss the regret is
   // not a Bregman divergence of −H and the bounds would not apply.
