@@ -118,7 +118,7 @@ function renderControls(losses: LossCurves[]): void {
     const rows: string[] = [];
     for (const l of losses) {
       if (l.params.length === 0) continue;
-      rows.push(`<div class="loss-name">${escapeXml(l.loss)}</div>`);
+      rows.push(`<div class="param-group" data-loss="${escapeXml(l.loss)}"><div class="loss-name">${escapeXml(l.loss)}</div>`);
       for (const p of l.params) {
         const { lo, hi } = sliderRange(p);
         const id = `p-${escapeXml(l.loss)}-${escapeXml(p.name)}`;
@@ -126,9 +126,16 @@ function renderControls(losses: LossCurves[]): void {
           `<label for="${id}"><code>${escapeXml(p.name)}</code></label><input id="${id}" type="range" data-loss="${escapeXml(l.loss)}" data-param="${escapeXml(p.name)}" min="${lo}" max="${hi}" step="${(hi - lo) / 200}" value="${p.value}" aria-label="${escapeXml(`${l.loss}: ${p.name}`)}"><span class="value" data-value-of="${id}"></span>`,
         );
       }
+      rows.push(`</div>`);
     }
     params.innerHTML = rows.length > 0 ? rows.join("") : `<span class="muted">No parameters.</span>`;
-    byId<HTMLDetailsElement>("param-panel").hidden = rows.length === 0;
+    const panel = byId<HTMLDetailsElement>("param-panel");
+    panel.hidden = rows.length === 0;
+    // Many losses make a long list of sliders: start folded then (the user's later choice stands).
+    if (!panel.dataset.initialised) {
+      panel.open = losses.length <= 8;
+      panel.dataset.initialised = "1";
+    }
   }
   // Values: the host's, unless the user moved the slider more recently than the host answered.
   for (const input of Array.from(document.querySelectorAll<HTMLInputElement>("#params input[type=range]"))) {

@@ -21,6 +21,7 @@ function isMissingMethod(err: unknown): boolean {
 
 const LANGUAGES: Record<GenerateParams["target"], string> = { torch: "python", jax: "python", numpy: "python", ts: "typescript" };
 
+/** Registers the three `propriety.*` commands contributed in package.json. */
 export function registerCommands(context: vscode.ExtensionContext, client: LanguageClient, openViewer: OpenViewer | null): void {
   context.subscriptions.push(
     vscode.commands.registerCommand("propriety.openCurveViewer", async (uri?: string, loss?: string) => {

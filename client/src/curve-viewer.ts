@@ -15,6 +15,9 @@ export const CURVE_VIEWER_TYPE = "propriety.curveViewer";
 const REFRESH_DEBOUNCE_MS = 400;
 /** η of the conditional-risk chart until the page says otherwise. */
 const DEFAULT_ETA = 0.7;
+/** Samples per curve while a slider moves (sampling time is about linear in it), and the pause after which full detail returns. */
+const DRAG_POINTS = 61;
+const SETTLE_MS = 600;
 
 function webviewOptions(context: vscode.ExtensionContext): vscode.WebviewOptions {
   return { enableScripts: true, localResourceRoots: [vscode.Uri.joinPath(context.extensionUri, "dist")] };
@@ -35,6 +38,9 @@ class CurveViewerPanel {
   private queued = false;
   private disposed = false;
   private refreshTimer: ReturnType<typeof setTimeout> | undefined;
+  private settleTimer: ReturnType<typeof setTimeout> | undefined;
+  /** True while slider values arrive: requests use fewer samples until the slider rests. */
+  private dragging = false;
 
   constructor(
     readonly panel: vscode.WebviewPanel,
@@ -81,6 +87,12 @@ class CurveViewerPanel {
         if (typeof m.value !== "number" || !Number.isFinite(m.value)) return;
         this.overrides = { ...this.overrides, [m.loss]: { ...(this.overrides[m.loss] ?? {}), [m.name]: m.value } };
         this.latestSeq = Math.max(this.latestSeq, m.seq ?? 0);
+        this.dragging = true;
+        if (this.settleTimer) clearTimeout(this.settleTimer);
+        this.settleTimer = setTimeout(() => {
+          this.dragging = false;
+          void this.refresh();
+        }, SETTLE_MS);
         void this.refresh();
         break;
       case "setEta":
@@ -113,6 +125,7 @@ class CurveViewerPanel {
         this.queued = false;
         const seq = this.latestSeq;
         const params: CurvesParams = { uri: this.uri, overrides: this.overrides };
+        if (this.dragging) params.points = DRAG_POINTS;
         try {
           const data = await this.client.sendRequest<CurvesResult>(CURVES_REQUEST, params);
           this.post({ type: "curves", data, eta: this.eta, seq, focus: this.focus });
@@ -129,6 +142,7 @@ class CurveViewerPanel {
     if (this.disposed) return;
     this.disposed = true;
     if (this.refreshTimer) clearTimeout(this.refreshTimer);
+    if (this.settleTimer) clearTimeout(this.settleTimer);
     CurveViewerPanel.panels.delete(this.uri);
     this.panel.dispose();
     while (this.disposables.length > 0) this.disposables.pop()?.dispose();

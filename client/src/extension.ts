@@ -12,6 +12,7 @@ import { registerStatusBar } from "./status-bar.js";
 
 let client: LanguageClient | undefined;
 
+/** Starts the language client and registers the commands, the curve viewer and the status bar. */
 export async function activate(context: vscode.ExtensionContext): Promise<void> {
   const serverModule = context.asAbsolutePath(path.join("dist", "server.js"));
   const serverOptions: ServerOptions = {
@@ -31,6 +32,7 @@ export async function activate(context: vscode.ExtensionContext): Promise<void> 
   registerStatusBar(context, client);
 }
 
+/** Stops the language server. */
 export function deactivate(): Promise<void> | undefined {
   return client?.stop();
 }

@@ -18,6 +18,7 @@ interface LossSummary {
 
 const ICONS: Record<string, string> = { "strictly-proper": "$(pass-filled)", proper: "$(pass)", improper: "$(error)", unknown: "$(question)" };
 
+/** Creates the status-bar item and keeps it in step with the cursor and the server's analyses. */
 export function registerStatusBar(context: vscode.ExtensionContext, client: LanguageClient): void {
   const item = vscode.window.createStatusBarItem(vscode.StatusBarAlignment.Left, 50);
   item.name = "Propriety loss summary";

@@ -4,8 +4,9 @@ Usage: python3 check_ast.py TARGET FILE [--run CALLS_JSON]
 Checks: the module parses; imports are only the target's libraries; every public function has the
 signature (pred, target, weight=None, reduction="mean") or (q) for recovery maps; for JAX, every `if`
 tests only `weight` or `reduction` (no Python control flow on traced values).
-With --run and the library importable, evaluates the calls like run_numpy.py; otherwise reports
-"skipped" with the reason.
+With --run and the library importable, evaluates the calls like run_numpy.py (JAX under jax.jit with
+x64 enabled; a call with "grad": true returns the autograd / jax.grad gradient of the summed per-sample
+losses with respect to pred); otherwise reports "skipped" with the reason.
 """
 import ast
 import importlib
@@ -70,17 +71,42 @@ def run(target, path, calls):
     results = []
     for c in calls:
         try:
+            fn = getattr(module, c["fn"])
             if target == "torch":
                 import torch
 
                 conv = lambda a: torch.tensor(a, dtype=torch.float64) if isinstance(a, list) else a
+                args = [conv(a) for a in c.get("args", [])]
+                kwargs = {k: conv(v) for k, v in c.get("kwargs", {}).items()}
+                if c.get("grad"):
+                    # Autograd through the generated function: d(sum of per-sample losses)/d(pred).
+                    args[0] = args[0].clone().requires_grad_(True)
+                    total = fn(*args, **kwargs).sum()
+                    if total.requires_grad:
+                        total.backward()
+                        results.append(encode(args[0].grad))
+                    else:
+                        # A loss built only from constant branches (e.g. the cost-weighted 0-1 loss) does not
+                        # depend on pred at all: its gradient is identically zero, which autograd reports as an error.
+                        results.append(encode(torch.zeros_like(args[0])))
+                else:
+                    results.append(encode(fn(*args, **kwargs)))
             else:
+                import jax
                 import jax.numpy as jnp
 
                 conv = lambda a: jnp.asarray(a, dtype=jnp.float64) if isinstance(a, list) else a
-            args = [conv(a) for a in c.get("args", [])]
-            kwargs = {k: conv(v) for k, v in c.get("kwargs", {}).items()}
-            results.append(encode(getattr(module, c["fn"])(*args, **kwargs)))
+                args = [conv(a) for a in c.get("args", [])]
+                kwargs = {k: conv(v) for k, v in c.get("kwargs", {}).items()}
+                static = {k: v for k, v in kwargs.items() if k == "reduction"}
+                dynamic = {k: v for k, v in kwargs.items() if k != "reduction"}
+                # Everything runs under jit with the reduction static, as the module header advises.
+                jitted = jax.jit(lambda *a, **kw: fn(*a, **kw, **static))
+                if c.get("grad"):
+                    g = jax.grad(lambda p, *rest: jitted(p, *rest, **dynamic).sum())
+                    results.append(encode(g(*args)))
+                else:
+                    results.append(encode(jitted(*args, **dynamic)))
         except Exception as err:
             results.append({"error": f"{type(err).__name__}: {err}"})
     return {"results": results}

@@ -3,7 +3,8 @@
  * line with test/codegen/golden/<target>/<sample>.<ext> (UPDATE_GOLDEN=1 rewrites them). The engine's
  * figures (verdict, λ, exponents, modulus) are masked before comparing, since the engine is refined
  * independently of the generator; everything else must match exactly. PyTorch and JAX modules are also
- * parsed by Python's `ast` (check_ast.py) and executed when the library is importable.
+ * parsed by Python's `ast` (check_ast.py) and, when the library is importable, executed (JAX under jit)
+ * with values and autograd gradients compared with the engine.
  */
 import * as fs from "node:fs";
 import * as path from "node:path";
@@ -12,7 +13,7 @@ import { nearlyEqual } from "../../server/src/analysis/numeric.js";
 import { generate, TARGETS, type Target } from "../../server/src/codegen/index.js";
 import { sanitiseName } from "../../server/src/codegen/names.js";
 import { analyseDocument } from "../../server/src/service/document.js";
-import { checkAst, decode, HERE, probabilityPoints, pythonHas, referenceFor, sampleFiles, SAMPLES_DIR, TOL } from "./support.js";
+import { checkAst, decode, HERE, probabilityPoints, scorePoints, pythonHas, referenceFor, sampleFiles, SAMPLES_DIR, TOL, type PyCall } from "./support.js";
 
 const UPDATE = process.env.UPDATE_GOLDEN === "1";
 const EXT: Record<Target, string> = { torch: "py", jax: "py", numpy: "py", ts: "ts" };
@@ -68,22 +69,46 @@ describe("PyTorch and JAX output parsed by Python's ast", () => {
           else expect(f, n).toEqual({ args: ["pred", "target", "weight", "reduction"], defaults: [null, "mean"] });
         }
       });
-      it(`${target}: ${file} executed against the engine`, (ctx) => {
-        if (!HAS_PYTHON || !pythonHas(target)) ctx.skip(`${target} is not importable by python3: ${target} output parsed only, not executed`);
-        const d = doc(file);
-        const { text } = generated(file, target);
-        const points = probabilityPoints(1200);
-        const losses = d.losses.filter((l) => l.compiled && text.includes(`loss \`${l.info.name}\` from`) && referenceFor(l, "prob"));
-        const calls = losses.map((l) => ({ fn: sanitiseName(l.info.name, "python"), args: [[...points, ...points], [...points.map(() => 1), ...points.map(() => 0)]], kwargs: { reduction: "none" } }));
-        const res = checkAst(target, text, calls);
-        if (res.run?.skipped) ctx.skip(res.run.skipped);
-        losses.forEach((l, i) => {
-          const ref = referenceFor(l, "prob")!;
-          const vals = decode(res.run!.results![i]!) as number[];
-          const bad = points.filter((q, j) => !nearlyEqual(vals[j]!, ref.l1(q), TOL.valueRel, TOL.valueAbs) || !nearlyEqual(vals[points.length + j]!, ref.l0(q), TOL.valueRel, TOL.valueAbs));
-          expect(bad, l.info.name).toEqual([]);
+
+      for (const input of ["prob", "score"] as const) {
+        it(`${target}: ${file} (${input} input) executed against the engine (values and autograd gradients)`, (ctx) => {
+          if (!HAS_PYTHON || !pythonHas(target)) ctx.skip(`${target} is not importable by python3: ${target} output parsed only, not executed`);
+          const d = doc(file);
+          const r = generate(d, { target, input, allowImproper: true, sourceName: file });
+          if (!r.ok) ctx.skip(`nothing to generate on the ${input} scale: ${r.message}`);
+          const text = r.ok ? r.code : "";
+          const points = input === "prob" ? probabilityPoints(1200) : scorePoints(1200);
+          const n = points.length;
+          const losses = d.losses.filter((l) => l.compiled && text.includes(`loss \`${l.info.name}\` from`) && referenceFor(l, input));
+          const pred = [...points, ...points];
+          const labels = [...points.map(() => 1), ...points.map(() => 0)];
+          const calls: PyCall[] = losses.flatMap((l) => {
+            const fn = sanitiseName(l.info.name, "python");
+            return [
+              { fn, args: [pred, labels], kwargs: { reduction: "none" } },
+              { fn, args: [pred, labels], kwargs: { reduction: "none" }, grad: true },
+            ];
+          });
+          const res = checkAst(target, text, calls);
+          if (res.run?.skipped) ctx.skip(res.run.skipped);
+          expect(losses.length).toBeGreaterThan(0);
+          losses.forEach((l, i) => {
+            const ref = referenceFor(l, input)!;
+            const vals = decode(res.run!.results![2 * i]!) as number[];
+            const grads = decode(res.run!.results![2 * i + 1]!) as number[];
+            const bad = points.filter((q, j) => !nearlyEqual(vals[j]!, ref.l1(q), TOL.valueRel, TOL.valueAbs) || !nearlyEqual(vals[n + j]!, ref.l0(q), TOL.valueRel, TOL.valueAbs));
+            expect(bad, `${l.info.name} values`).toEqual([]);
+            // Autograd (torch) / jax.grad through the generated code against the engine's symbolic derivatives.
+            const gradTol = (g: number) => TOL.valueAbs * Math.max(1, Math.abs(g));
+            const badG = points.filter((q, j) => {
+              const w1 = ref.dl1?.(q);
+              const w0 = ref.dl0?.(q);
+              return (w1 !== undefined && !nearlyEqual(grads[j]!, w1, TOL.valueRel, gradTol(w1))) || (w0 !== undefined && !nearlyEqual(grads[n + j]!, w0, TOL.valueRel, gradTol(w0)));
+            });
+            expect(badG.slice(0, 3), `${l.info.name} gradients`).toEqual([]);
+          });
         });
-      });
+      }
     }
   }
 });

@@ -11,7 +11,7 @@ import { generate, type GenerateOptions } from "../../server/src/codegen/index.j
 import { CLAMP_EPS } from "../../server/src/codegen/model.js";
 import { normcdf as normcdfRef, sigmoid, softplus } from "../../server/src/semantics/builtins.js";
 import { analyseDocument } from "../../server/src/service/document.js";
-import { decode, loadTs, pythonHas, runNumpy, SAMPLES_DIR } from "./support.js";
+import { checkAst, decode, loadTs, pythonHas, runNumpy, SAMPLES_DIR } from "./support.js";
 
 const HAS_NUMPY = pythonHas("numpy");
 /** Stable closed forms against stable closed forms: a few ulps. */
@@ -89,6 +89,21 @@ describe("extreme scores", () => {
       const vals = Array.from(mod[c.ts]!(pred, target, { reduction: "none" }) as Float64Array);
       const grads = Array.from(mod[`${c.ts}Grad`]!(pred, target, { reduction: "none" }) as Float64Array);
       expectExtremes(vals, grads, `ts ${c.loss}`);
+    });
+  }
+
+  for (const target of ["torch", "jax"] as const) {
+    it(`${target}: the logistic family stays finite and exact at |v| up to 800 (values and autograd)`, (ctx) => {
+      if (!pythonHas(target)) ctx.skip(`${target} is not importable by python3: not executed`);
+      for (const c of LOGISTIC_FAMILY) {
+        const { pred, target: labels } = extremeArgs();
+        const res = checkAst(target, code(c.file, { target, input: "score", loss: c.loss }), [
+          { fn: c.py, args: [pred, labels], kwargs: { reduction: "none" } },
+          { fn: c.py, args: [pred, labels], kwargs: { reduction: "none" }, grad: true },
+        ]);
+        if (res.run?.skipped) ctx.skip(res.run.skipped);
+        expectExtremes(decode(res.run!.results![0]!) as number[], decode(res.run!.results![1]!) as number[], `${target} ${c.loss}`);
+      }
     });
   }
 
@@ -218,8 +233,9 @@ loss probit_link {
   const wantQ = [...qs.map((q) => spec.l1!(q)), ...qs.map((q) => spec.l0!(q))];
   // Score input through the probit link: q = normcdf(v), so l1 = −ln Φ(v) and l0 = −ln Φ(−v) (Φ(−v) = 1 − Φ(v)).
   const wantV = [...vs.map((v) => link.l1!(normcdfRef(v))), ...vs.map((v) => -Math.log(normcdfRef(-v)))];
-  const target = (n: number) => [...new Array<number>(n).fill(1), ...new Array<number>(n).fill(0)];
-  const agree = (got: number[], want: number[]) => got.every((g, i) => nearlyEqual(g, want[i]!, SPECIAL_REL, 1e-15));
+  const target_ = (n: number) => [...new Array<number>(n).fill(1), ...new Array<number>(n).fill(0)];
+  /** The points where the two implementations disagree (empty when they agree). */
+  const agree = (got: number[], want: number[]) => got.map((g, i) => [i, g, want[i]!]).filter(([, g, w]) => !nearlyEqual(g!, w!, SPECIAL_REL, 1e-15));
 
   it("TypeScript", async () => {
     const a = generate(d, { target: "ts", loss: "special", allowImproper: true });
@@ -227,9 +243,24 @@ loss probit_link {
     if (!a.ok || !b.ok) throw new Error(`${a.ok ? "" : a.message} ${b.ok ? "" : b.message}`);
     const ma = await loadTs(a.code);
     const mb = await loadTs(b.code);
-    expect(agree(Array.from(ma.special!([...qs, ...qs], target(qs.length), { reduction: "none" }) as Float64Array), wantQ)).toBe(true);
-    expect(agree(Array.from(mb.probitLink!([...vs, ...vs], target(vs.length), { reduction: "none" }) as Float64Array), wantV)).toBe(true);
+    expect(agree(Array.from(ma.special!([...qs, ...qs], target_(qs.length), { reduction: "none" }) as Float64Array), wantQ)).toEqual([]);
+    expect(agree(Array.from(mb.probitLink!([...vs, ...vs], target_(vs.length), { reduction: "none" }) as Float64Array), wantV)).toEqual([]);
   });
+
+  for (const target of ["torch", "jax"] as const) {
+    it(`${target} (parsed always; executed when importable)`, (ctx) => {
+      const a = generate(d, { target, loss: "special", allowImproper: true });
+      const b = generate(d, { target, loss: "probit_link", input: "score", allowImproper: true });
+      if (!a.ok || !b.ok) throw new Error("generation failed");
+      if (target === "jax") expect(a.code).toContain("import jax.scipy.special");
+      const ra = checkAst(target, a.code, [{ fn: "special", args: [[...qs, ...qs], target_(qs.length)], kwargs: { reduction: "none" } }]);
+      const rb = checkAst(target, b.code, [{ fn: "probit_link", args: [[...vs, ...vs], target_(vs.length)], kwargs: { reduction: "none" } }]);
+      expect(ra.problems.concat(rb.problems)).toEqual([]);
+      if (ra.run?.skipped) ctx.skip(`${ra.run.skipped}: parsed only`);
+      expect(agree(decode(ra.run!.results![0]!) as number[], wantQ)).toEqual([]);
+      expect(agree(decode(rb.run!.results![0]!) as number[], wantV)).toEqual([]);
+    });
+  }
 
   it("NumPy", (ctx) => {
     if (!HAS_NUMPY) ctx.skip("python3 cannot import numpy: not executed");
@@ -237,9 +268,9 @@ loss probit_link {
     const b = generate(d, { target: "numpy", loss: "probit_link", input: "score", allowImproper: true });
     if (!a.ok || !b.ok) throw new Error("generation failed");
     expect(a.code).toMatch(/^import math\nimport statistics\n\nimport numpy as np$/m);
-    const [ra] = runNumpy(a.code, [{ fn: "special", args: [[...qs, ...qs], target(qs.length)], kwargs: { reduction: "none" } }]);
-    const [rb] = runNumpy(b.code, [{ fn: "probit_link", args: [[...vs, ...vs], target(vs.length)], kwargs: { reduction: "none" } }]);
-    expect(agree(decode(ra!) as number[], wantQ)).toBe(true);
-    expect(agree(decode(rb!) as number[], wantV)).toBe(true);
+    const [ra] = runNumpy(a.code, [{ fn: "special", args: [[...qs, ...qs], target_(qs.length)], kwargs: { reduction: "none" } }]);
+    const [rb] = runNumpy(b.code, [{ fn: "probit_link", args: [[...vs, ...vs], target_(vs.length)], kwargs: { reduction: "none" } }]);
+    expect(agree(decode(ra!) as number[], wantQ)).toEqual([]);
+    expect(agree(decode(rb!) as number[], wantV)).toEqual([]);
   });
 });

@@ -17,6 +17,11 @@ import type { LossReport } from "../../server/src/service/document.js";
 export const ROOT = path.resolve(__dirname, "../..");
 export const SAMPLES_DIR = path.join(ROOT, "samples");
 export const HERE = __dirname;
+/**
+ * The Python used to execute generated code: `python3` on PATH, or PROPRIETY_TEST_PYTHON (e.g. a virtual
+ * environment that has torch and jax, so those targets are executed instead of only parsed).
+ */
+export const PYTHON = process.env.PROPRIETY_TEST_PYTHON ?? "python3";
 
 /** The sample files that exist right now (the golden test iterates over them). */
 export function sampleFiles(): string[] {
@@ -28,10 +33,17 @@ export function tempDir(prefix: string): string {
   return fs.mkdtempSync(path.join(os.tmpdir(), prefix));
 }
 
-/** True when `python3 -c "import <module>"` succeeds. */
+const importable = new Map<string, boolean>();
+
+/** True when `python3 -c "import <module>"` succeeds (PYTHON, to be exact). */
 export function pythonHas(module: string): boolean {
-  const r = spawnSync("python3", ["-c", `import ${module}`], { encoding: "utf8" });
-  return r.status === 0;
+  // Importing torch or jax takes seconds; ask once per module and test file.
+  let has = importable.get(module);
+  if (has === undefined) {
+    has = spawnSync(PYTHON, ["-c", `import ${module}`], { encoding: "utf8" }).status === 0;
+    importable.set(module, has);
+  }
+  return has;
 }
 
 export type PyValue = number | string | PyValue[] | { error: string };
@@ -48,6 +60,8 @@ export interface PyCall {
   fn: string;
   args: unknown[];
   kwargs?: Record<string, unknown>;
+  /** check_ast.py only: return the autograd gradient of the summed losses with respect to pred. */
+  grad?: boolean;
 }
 
 /** Runs generated NumPy code through test/codegen/run_numpy.py; one python process for all calls. */
@@ -55,7 +69,7 @@ export function runNumpy(code: string, calls: PyCall[]): PyValue[] {
   const dir = tempDir("propriety-np-");
   const file = path.join(dir, "generated.py");
   fs.writeFileSync(file, code);
-  const r = spawnSync("python3", [path.join(HERE, "run_numpy.py")], { input: JSON.stringify({ module: file, calls }), encoding: "utf8", maxBuffer: 64 * 1024 * 1024 });
+  const r = spawnSync(PYTHON, [path.join(HERE, "run_numpy.py")], { input: JSON.stringify({ module: file, calls }), encoding: "utf8", maxBuffer: 64 * 1024 * 1024 });
   fs.rmSync(dir, { recursive: true, force: true });
   if (r.status !== 0) throw new Error(`run_numpy.py failed: ${r.stderr}`);
   return JSON.parse(r.stdout) as PyValue[];
@@ -72,7 +86,7 @@ export function checkAst(target: "torch" | "jax", code: string, calls?: PyCall[]
   const file = path.join(dir, "generated.py");
   fs.writeFileSync(file, code);
   const args = [path.join(HERE, "check_ast.py"), target, file, ...(calls ? ["--run"] : [])];
-  const r = spawnSync("python3", args, { input: calls ? JSON.stringify(calls) : "", encoding: "utf8", maxBuffer: 64 * 1024 * 1024 });
+  const r = spawnSync(PYTHON, args, { input: calls ? JSON.stringify(calls) : "", encoding: "utf8", maxBuffer: 64 * 1024 * 1024 });
   fs.rmSync(dir, { recursive: true, force: true });
   if (r.status !== 0) throw new Error(`check_ast.py failed: ${r.stderr}`);
   return JSON.parse(r.stdout);

@@ -1,8 +1,10 @@
 // The language server end to end: a real JSON-RPC client over stdio against the bundled dist/server.js.
+import { readFileSync } from "node:fs";
+import * as path from "node:path";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type { CodeAction, CompletionItem, Diagnostic, DocumentSymbol, Hover, SemanticTokens, TextEdit, WorkspaceEdit } from "vscode-languageserver-protocol";
 import { createLanguageService } from "../../server/src/service/language-service.js";
-import { applyLspEdits, LspTestClient, positionOf } from "../support/lsp-client.js";
+import { applyLspEdits, LspTestClient, positionOf, ROOT } from "../support/lsp-client.js";
 
 let client: LspTestClient;
 
@@ -15,6 +17,9 @@ afterAll(async () => {
 });
 
 const td = (uri: string) => ({ textDocument: { uri } });
+/** A diagnostic's message as text (LSP 3.18 allows Markup; this server sends strings). */
+const messageOf = (d: Diagnostic): string => (typeof d.message === "string" ? d.message : d.message.value);
+
 
 describe("initialize", () => {
   it("announces the features it serves", () => {
@@ -36,7 +41,7 @@ describe("diagnostics", () => {
     await client.open(uri, text);
     const diags = await client.settledDiagnostics(uri);
     const unknown = diags.find((d) => d.code === "unknown-name")!;
-    expect(unknown.message).toContain("did you mean `c`?");
+    expect(messageOf(unknown)).toContain("did you mean `c`?");
     expect(unknown.range).toEqual({ start: positionOf(text, text.indexOf("cc")), end: positionOf(text, text.indexOf("cc") + 2) });
     expect(unknown.source).toBe("propriety");
     expect(unknown.data).toEqual({ suggestion: "c" });
@@ -171,6 +176,47 @@ describe("features over LSP", () => {
   });
 });
 
+describe("custom requests shared with the curve viewer and the commands", () => {
+  const uri = "file:///custom.loss";
+  const text = "loss brier {\n  l1(q) = (1 - q)^2\n  l0(q) = q^2\n}\n";
+
+  beforeAll(async () => {
+    await client.open(uri, text);
+    await client.settledDiagnostics(uri);
+  });
+
+  it("serves sampled curves for the open version", async () => {
+    const r = await client.request<{ version: number | null; losses: { loss: string; partials: { y: unknown[] }[] }[] }>("propriety/curves", { uri });
+    expect(r.version).toBe(1);
+    expect(r.losses.map((l) => l.loss)).toEqual(["brier"]);
+    expect(r.losses[0]!.partials.length).toBe(2);
+    expect(r.losses[0]!.partials[0]!.y.length).toBeGreaterThan(10);
+  });
+
+  it("generates code for a target", async () => {
+    const r = await client.request<{ ok: boolean; code: string | null; fileName: string | null }>("propriety/generate", { uri, target: "numpy" });
+    expect(r.ok).toBe(true);
+    expect(r.code).toContain("brier");
+    expect(r.fileName).toMatch(/\.py$/);
+    const bad = await client.request<{ ok: boolean; message: string | null }>("propriety/generate", { uri: "file:///not-open.loss", target: "numpy" });
+    expect(bad).toEqual({ ok: false, code: null, message: "the document is not open", fileName: null });
+  });
+
+  it("renders the HTML report when the report assets are built, and says null otherwise", async () => {
+    const { existsSync } = await import("node:fs");
+    const { join } = await import("node:path");
+    const { ROOT } = await import("../support/lsp-client.js");
+    const built = existsSync(join(ROOT, "dist", "report-page.js")) && existsSync(join(ROOT, "dist", "viewer.css"));
+    const r = await client.request<{ html: string } | null>("propriety/report", { uri });
+    if (built) {
+      expect(r?.html).toMatch(/<html/i);
+      expect(r?.html).toContain("brier");
+    } else {
+      expect(r).toBeNull();
+    }
+  });
+});
+
 describe("code actions over LSP", () => {
   it("applies the suggestion fix to the published diagnostic", async () => {
     const uri = "file:///fix.loss";
@@ -196,6 +242,35 @@ describe("code actions over LSP", () => {
   });
 });
 
+describe("journey: is the copied focal loss proper? (samples/flood-desk.loss)", () => {
+  const uri = "file:///flood-desk.loss";
+  const text = readFileSync(path.join(ROOT, "samples", "flood-desk.loss"), "utf8");
+  const at = (marker: string, shift = 0) => positionOf(text, text.indexOf(marker) + shift);
+
+  it("reports the focal loss as improper with a counterexample, hovers the recovery map, and inserts it", async () => {
+    await client.open(uri, text);
+    const diags = await client.settledDiagnostics(uri);
+    // Lin et al. 2017, "Focal Loss for Dense Object Detection" (ICCV): the focal loss is improper for γ > 0.
+    const improper = diags.find((d) => d.code === "improper" && d.range.start.line === at("loss focal").line)!;
+    expect(improper).toBeDefined();
+    expect(messageOf(improper)).toMatch(/at η = [0-9.]+, predicting q = [0-9.]+ has conditional risk/);
+    expect(messageOf(improper)).toContain("proper at g = 0");
+    const hover = await client.request<Hover>("textDocument/hover", { ...td(uri), position: at("loss focal", 6) });
+    const md = (hover.contents as { value: string }).value;
+    expect(md).toContain("**Verdict:** improper");
+    expect(md).toContain("**posterior recovery**");
+    const recovery = diags.find((d) => d.code === "posterior-recovery" && d.range.start.line === at("loss focal").line)!;
+    const actions = await client.request<CodeAction[]>("textDocument/codeAction", { ...td(uri), range: recovery.range, context: { diagnostics: [recovery] } });
+    const insert = actions.find((a) => a.title.includes("posterior-recovery map of `focal`"))!;
+    const after = applyLspEdits(text, insert.edit!.changes![uri]!);
+    expect(after).toMatch(/\ndef focal_recovery\(q, g\) = /);
+    const version = await client.change(uri, [{ text: after }]);
+    const again = await client.diagnosticsFor(uri, version);
+    expect(again.filter((d) => d.severity === 1 && d.range.start.line > at("loss focal").line + 5 && /recovery/.test(messageOf(d)))).toEqual([]);
+    expect(again.some((d) => d.code === "parse-unexpected-token" || d.code === "unknown-name")).toBe(false);
+  });
+});
+
 describe("formatting over LSP", () => {
   it("formats a compact document into the canonical layout", async () => {
     const uri = "file:///fmt.loss";
@@ -209,6 +284,31 @@ describe("formatting over LSP", () => {
     const uri = "file:///fmt-broken.loss";
     await client.open(uri, "loss a {\n  l1(q) = (1 - \n");
     expect(await client.request<TextEdit[]>("textDocument/formatting", { ...td(uri), options: { tabSize: 2, insertSpaces: true } })).toEqual([]);
+  });
+});
+
+describe("settings", () => {
+  const two = "loss a {\n  l1(q) = (1 - q)^2\n  l0(q) = q^2\n}\nloss b {\n  l1(q) = -ln(q)\n  l0(q) = -ln(1 - q)\n}\n";
+
+  it("takes settings from initializationOptions", async () => {
+    const c = await LspTestClient.start({ initializationOptions: { settings: { maxAnalysedLosses: 1 } } });
+    try {
+      await c.open("file:///limit.loss", two);
+      const diags = await c.settledDiagnostics("file:///limit.loss");
+      expect(diags.map(messageOf)).toContain("only the first 1 losses of this file are analysed");
+    } finally {
+      await c.stop();
+    }
+  });
+
+  it("rechecks open documents when the configuration changes", async () => {
+    const uri = "file:///config.loss";
+    await client.open(uri, two);
+    expect((await client.settledDiagnostics(uri)).some((d) => messageOf(d).startsWith("only the first"))).toBe(false);
+    await client.connection.sendNotification("workspace/didChangeConfiguration", { settings: { propriety: { maxAnalysedLosses: 1 } } });
+    await client.waitFor(() => client.diagnostics.get(uri)?.diagnostics.some((d) => messageOf(d).startsWith("only the first 1")) === true, 10_000, "the limit");
+    await client.connection.sendNotification("workspace/didChangeConfiguration", { settings: { propriety: { maxAnalysedLosses: 200 } } });
+    await client.waitFor(() => client.diagnostics.get(uri)?.diagnostics.some((d) => messageOf(d).startsWith("only the first")) === false, 10_000, "the limit lifted");
   });
 });
 

@@ -52,6 +52,10 @@ describe("completion", () => {
     expect(labels).not.toContain("h");
   });
 
+  it("offers `canonical` after `link =`", () => {
+    expect(checkCompletion("loss a {\n  l1(q) = (1 - q)^2\n  l0(q) = q^2\n  link = $0\n}\n")).toEqual(["canonical"]);
+  });
+
   it("offers the score variable in a score clause", () => {
     expect(checkCompletion("loss s {\n  l1(v) = softplus(-$0)\n}\n")).toContain("v");
   });

@@ -55,6 +55,38 @@ describe("hover on a loss name", () => {
   });
 });
 
+describe("hover on a loss name, with the engine's figures", () => {
+  it("shows λ = 2 and δ(ε) ≈ ε²/4 for the Brier score", () => {
+    // Brier: w = 2 (Reid & Williamson 2010, "Composite Binary Losses", JMLR 11, §5), so λ = 2;
+    // f = −H = q² − q has midpoint modulus δ(ε) = ε²/4 (proper-losses.md §2, table: "α = 2 case (Gini, Brier)").
+    const md = checkHover("loss br$0ier {\n  l1(q) = (1 - q)^2\n  l0(q) = q^2\n}\n");
+    expect(md).toContain("**Verdict:** strictly proper");
+    expect(md).toMatch(/\*\*λ\*\*[^\n]*: 2\b/);
+    expect(md).toContain("≈ 0.25·ε^2");
+    expect(md).toContain("| decision regret | via modulus | direct | ψ-transform |");
+  });
+
+  it("shows the minimiser and a recovery map that sends q*(η) back to η for an improper loss", () => {
+    // Focal loss (Lin et al. 2017, "Focal Loss for Dense Object Detection", ICCV) is improper for γ > 0;
+    // its recovery map follows from the first-order condition (Reid & Williamson 2010, JMLR 11, Cor. 12).
+    const src = "loss fo$0cal(g = 2 in [0, 5]) {\n  l1(q) = -(1 - q)^g * ln(q)\n  l0(q) = -q^g * ln(1 - q)\n}\n";
+    const { text } = cursor(src);
+    const a = service.analyseFull(text).losses[0]!.analysis!;
+    const md = checkHover(src);
+    expect(md).toContain("**Verdict:** improper at g = 2");
+    expect(md).toContain("**minimiser** q*(η)");
+    const formula = /posterior recovery\*\*: η = `([^`]+)`/.exec(md)?.[1];
+    expect(formula).toBeDefined();
+    expect(a.minimiser?.etas.length).toBeGreaterThan(3);
+    const model = analyseSemantics(parse(`loss t(g = 2) {\n  l1(q) = ${formula}\n  l0(q) = q\n}\n`).ast);
+    const recover = compileLoss(model, model.losses[0]!)!.family.instantiate({}).l1!;
+    a.minimiser!.etas.forEach((eta, i) => {
+      const q = a.minimiser!.qs[i]!;
+      if (q > 0.01 && q < 0.99) expect(recover(q)).toBeCloseTo(eta, 5);
+    });
+  });
+});
+
 describe("hover on a clause name", () => {
   it("gives the Savage partials of the binary entropy: log loss", () => {
     // Savage 1971 (JASA 66); Reid & Williamson 2010, "Composite Binary Losses", JMLR 11, Thm 7:
@@ -63,6 +95,10 @@ describe("hover on a clause name", () => {
     expect(md).toContain("conditional Bayes risk");
     const l1 = formulaAfter(md, "- l1(q) =");
     const l0 = formulaAfter(md, "- l0(q) =");
+    // Readable, not just right: the expanded and collected form.
+    expect(l1).toBe("-ln(q)");
+    expect(l0).toBe("-ln(1 - q)");
+    expect(formulaAfter(md, "weight w(q) = −H″(q)")).toBe("1 / (q - q^2)");
     for (const q of [0.1, 0.3, 0.7]) {
       expect(evalInQ(l1, q)).toBeCloseTo(-Math.log(q), 10);
       expect(evalInQ(l0, q)).toBeCloseTo(-Math.log(1 - q), 10);

@@ -69,6 +69,7 @@ export interface StartOptions {
   initializationOptions?: unknown;
 }
 
+/** One server process and the JSON-RPC connection to it. */
 export class LspTestClient {
   readonly diagnostics = new Map<string, PublishDiagnosticsParams>();
   readonly logs: string[] = [];
@@ -135,18 +136,11 @@ export class LspTestClient {
     return this.diagnostics.get(uri)!.diagnostics;
   }
 
-  /** Waits for the diagnostics of the latest version to be republished after the engine's pass (the second publish). */
-  async settledDiagnostics(uri: string, quietMs = 400, timeoutMs = 15_000): Promise<Diagnostic[]> {
+  /** The diagnostics of the latest version after the engine's pass (the server's `propriety/analysed` notification follows it). */
+  async settledDiagnostics(uri: string, timeoutMs = 60_000): Promise<Diagnostic[]> {
     const version = this.versions.get(uri) ?? 0;
-    await this.diagnosticsFor(uri, version, timeoutMs);
-    // The full pass follows the fast one after the debounce; wait until nothing new arrives for a while.
-    let last = this.diagnostics.get(uri);
-    for (;;) {
-      await new Promise((r) => setTimeout(r, quietMs));
-      const now = this.diagnostics.get(uri);
-      if (now === last) return now!.diagnostics;
-      last = now;
-    }
+    await this.waitFor(() => this.analysed.get(uri) === version && this.diagnostics.get(uri)?.version === version, timeoutMs, `analysis of ${uri} v${version}`);
+    return this.diagnostics.get(uri)!.diagnostics;
   }
 
   async open(uri: string, text: string, languageId = "loss"): Promise<void> {

@@ -13,9 +13,9 @@ const dialect: PyDialect = {
     asin: { print: ([a]) => `jnp.arcsin(${a})` },
     acos: { print: ([a]) => `jnp.arccos(${a})` },
     atan: { print: ([a]) => `jnp.arctan(${a})` },
-    erf: { print: ([a]) => `jax.scipy.special.erf(${a})` },
-    normcdf: { print: ([a]) => `jax.scipy.special.ndtr(${a})` },
-    probit: { print: ([a]) => `jax.scipy.special.ndtri(${a})` },
+    erf: { print: ([a]) => `jax.scipy.special.erf(${a})`, helper: "jax.scipy.special" },
+    normcdf: { print: ([a]) => `jax.scipy.special.ndtr(${a})`, helper: "jax.scipy.special" },
+    probit: { print: ([a]) => `jax.scipy.special.ndtri(${a})`, helper: "jax.scipy.special" },
   },
   where: (c, a, b) => `jnp.where(${c}, ${a}, ${b})`,
   minimum: (a, b) => `jnp.minimum(${a}, ${b})`,
@@ -25,12 +25,14 @@ const dialect: PyDialect = {
 const target: PyTarget = {
   target: "jax",
   dialect,
-  imports: ["import jax", "import jax.numpy as jnp", "import jax.scipy.special"],
+  imports: ["import jax", "import jax.numpy as jnp"],
   notes: ['JAX: jit with the reduction static, e.g. jax.jit(f, static_argnames="reduction"); differentiate with jax.grad.'],
   asArray: (p) => `jnp.asarray(${p})`,
   labels: (t, like) => `jnp.asarray(${t}, dtype=${like}.dtype)`,
   clamp: (x, lo, hi) => (lo && hi ? `jnp.clip(${x}, ${lo}, ${hi})` : lo ? `jnp.maximum(${x}, ${lo})` : `jnp.minimum(${x}, ${hi})`),
   helperSources: {},
+  // The special functions live in a submodule that `import jax` does not load.
+  helperImports: { "jax.scipy.special": ["import jax.scipy.special"] },
   gradients: false,
 };
 

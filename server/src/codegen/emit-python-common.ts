@@ -281,8 +281,10 @@ export function emitPythonModule(input: EmitInput, t: PyTarget, sanitise: (n: st
   ]));
   const extra = new Set<string>();
   for (const h of used) for (const imp of t.helperImports?.[h] ?? []) extra.add(imp);
+  const stdlib = [...extra].filter((i) => /^import (math|statistics)$/.test(i)).sort();
+  const library = [...extra].filter((i) => !stdlib.includes(i)).sort();
   // Standard-library imports first, then the array library (PEP 8 grouping).
-  lines.push(...[...extra].sort(), ...(extra.size > 0 ? [""] : []), ...t.imports, "");
+  lines.push(...stdlib, ...(stdlib.length > 0 ? [""] : []), ...t.imports, ...library, "");
   if (needsEps) {
     lines.push(...pyComment([`Clamping bound for probabilities where a singularity remains: 1e-7 suits float32 (machine epsilon 1.19e-7),`, "so 1 - EPS is still below 1 and the logarithms stay finite."]));
     lines.push(`EPS = ${pyNumber(CLAMP_EPS_VALUE)}`, "");

@@ -19,6 +19,7 @@ import type { DocumentSymbol } from "../service/symbols.js";
 /** The `source` of every diagnostic this server publishes. */
 export const DIAGNOSTIC_SOURCE = "propriety";
 
+/** The LSP range of an offset span. */
 export function toRange(doc: TextDocument, span: Span): Range {
   return { start: doc.positionAt(span.start), end: doc.positionAt(span.end) };
 }
@@ -37,6 +38,7 @@ export function toOffset(doc: TextDocument, pos: Position): number | null {
   return lineStart + pos.character;
 }
 
+/** The offset span of an LSP range (positions past the end clamp to the end). */
 export function toSpan(doc: TextDocument, range: Range): Span {
   return { start: doc.offsetAt(range.start), end: doc.offsetAt(range.end) };
 }
@@ -59,6 +61,7 @@ function fromSeverity(s: DiagnosticSeverity | undefined): Severity {
   }
 }
 
+/** An issue as an LSP diagnostic (code, data and related information copied; related spans folded into the message for clients without support). */
 export function toDiagnostic(doc: TextDocument, issue: Issue, relatedSupport: boolean): Diagnostic {
   const d: Diagnostic = {
     range: toRange(doc, issue.span),
@@ -88,6 +91,7 @@ export function fromDiagnostic(doc: TextDocument, d: Diagnostic): Issue | null {
   return issue;
 }
 
+/** A service edit as an LSP text edit. */
 export function toTextEdit(doc: TextDocument, e: TextEdit): LspTextEdit {
   return { range: toRange(doc, e.span), newText: e.newText };
 }
@@ -103,6 +107,7 @@ const COMPLETION_KINDS: Record<CompletionItem["kind"], CompletionItemKind> = {
   constant: CompletionItemKind.Constant,
 };
 
+/** A completion proposal as an LSP item (snippets only for clients that support them). */
 export function toCompletionItem(c: CompletionItem, snippetSupport: boolean): LspCompletionItem {
   const item: LspCompletionItem = { label: c.label, kind: COMPLETION_KINDS[c.kind], sortText: `${c.sortGroup}${c.label}` };
   if (c.detail) item.detail = c.detail;
@@ -127,6 +132,7 @@ const SYMBOL_KINDS: Record<DocumentSymbol["kind"], SymbolKind> = {
   expect: SymbolKind.Event,
 };
 
+/** An outline entry as an LSP document symbol, with its children. */
 export function toDocumentSymbol(doc: TextDocument, s: DocumentSymbol): LspDocumentSymbol {
   const out: LspDocumentSymbol = {
     name: s.name || "(unnamed)",
@@ -139,6 +145,7 @@ export function toDocumentSymbol(doc: TextDocument, s: DocumentSymbol): LspDocum
   return out;
 }
 
+/** A folding region as LSP line numbers, or null when it covers a single line. */
 export function toFoldingRange(doc: TextDocument, f: FoldingRange): LspFoldingRange | null {
   const start = doc.positionAt(f.span.start).line;
   let end = doc.positionAt(f.span.end).line;
@@ -148,6 +155,7 @@ export function toFoldingRange(doc: TextDocument, f: FoldingRange): LspFoldingRa
   return { startLine: start, endLine: end, kind: f.kind === "comment" ? FoldingRangeKind.Comment : FoldingRangeKind.Region };
 }
 
+/** A service code action as an LSP code action with a workspace edit, linked to the diagnostics it fixes. */
 export function toCodeAction(doc: TextDocument, a: CodeAction, diagnostics: Diagnostic[]): LspCodeAction {
   const action: LspCodeAction = {
     title: a.title,

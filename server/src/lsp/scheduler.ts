@@ -29,6 +29,7 @@ interface DocState {
   rerun: boolean;
 }
 
+/** Schedules the two diagnostic passes of every open document (see the file comment). */
 export class DiagnosticsScheduler {
   private readonly docs = new Map<string, DocState>();
 

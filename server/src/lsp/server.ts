@@ -68,6 +68,7 @@ export interface ServerHost {
   readReportAssets?(): { script: string; css: string } | null;
 }
 
+/** Registers every handler on the connection and starts listening. */
 export function startServer(connection: Connection, host: ServerHost = {}): void {
   const documents = new TextDocuments(TextDocument);
   const log = (m: string) => connection.console.log(m);
@@ -148,7 +149,8 @@ export function startServer(connection: Connection, host: ServerHost = {}): void
       capabilities: {
         textDocumentSync: TextDocumentSyncKind.Incremental,
         hoverProvider: true,
-        completionProvider: { triggerCharacters: [" ", "("] },
+        // No trigger characters: editors already ask while a word is typed, and a space trigger would pop up after every operator.
+        completionProvider: {},
         signatureHelpProvider: { triggerCharacters: ["(", ","] },
         definitionProvider: true,
         referencesProvider: true,

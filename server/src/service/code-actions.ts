@@ -7,13 +7,13 @@
  */
 import type { BinaryOp, Expr } from "../syntax/ast.js";
 import type { Issue, Span } from "../issue.js";
-import { CONSTANTS } from "../semantics/builtins.js";
+import { BUILTINS, CONSTANTS } from "../semantics/builtins.js";
 import { helperBodies } from "../semantics/family.js";
 import type { ClauseName, LossInfo, SemanticModel } from "../semantics/model.js";
 import { suggest } from "../semantics/suggest.js";
 import type { DocumentAnalysis } from "./document.js";
 import { findLossAt, type TextEdit } from "./navigation.js";
-import { call, differentiate, inlineDefs, name, NotDifferentiable, num, printExpr, simplify } from "../semantics/symbolic.js";
+import { call, dependsOn, differentiate, inlineDefs, name, num, printExpr, simplify } from "../semantics/symbolic.js";
 
 const NOSPAN: Span = { start: 0, end: 0 };
 
@@ -52,15 +52,302 @@ export function clauseExpr(model: SemanticModel, loss: LossInfo, clause: ClauseN
 export function derivative(e: Expr, x: string): Expr | null {
   try {
     return differentiate(e, x);
-  } catch (err) {
-    if (err instanceof NotDifferentiable) return null;
+  } catch {
+    // Usually NotDifferentiable (a call without a rule). Anything else is treated the same: a derived
+    // formula is an extra for hovers and fixes, never required.
     return null;
   }
 }
 
+/**
+ * Sign and reciprocal rewrites the symbolic simplifier leaves out, so derived formulas read as people
+ * write them: (−1)/y → −(1/y), a·(1/b) → a/b, a·(−b) → −(a·b), a − (−b) → a + b, a + (−b) → a − b.
+ */
+function tidy(e: Expr): Expr {
+  switch (e.kind) {
+    case "paren":
+      return tidy(e.inner);
+    case "unary": {
+      const a = tidy(e.operand);
+      if (e.op === "-" && a.kind === "unary" && a.op === "-") return a.operand;
+      return { ...e, operand: a };
+    }
+    case "call":
+      return { ...e, args: e.args.map(tidy) };
+    case "if":
+      return { ...e, cond: tidy(e.cond), then: tidy(e.then), else: tidy(e.else) };
+    case "binary": {
+      const l = tidy(e.left);
+      const r = tidy(e.right);
+      const isNeg = (x: Expr): x is Extract<Expr, { kind: "unary" }> => x.kind === "unary" && x.op === "-";
+      const isRecip = (x: Expr): x is Extract<Expr, { kind: "binary" }> => x.kind === "binary" && x.op === "/" && x.left.kind === "number" && x.left.value === 1;
+      switch (e.op) {
+        case "/":
+          if (l.kind === "number" && l.value < 0) return negate(op("/", num(-l.value), r));
+          if (isNeg(l)) return negate(op("/", l.operand, r));
+          break;
+        case "*":
+          if (isRecip(r)) return tidy(op("/", l, r.right));
+          if (isRecip(l)) return tidy(op("/", r, l.right));
+          if (isNeg(r)) return negate(tidy(op("*", l, r.operand)));
+          if (isNeg(l)) return negate(tidy(op("*", l.operand, r)));
+          break;
+        case "-":
+          if (isNeg(r)) return op("+", l, r.operand);
+          break;
+        case "+":
+          if (isNeg(r)) return op("-", l, r.operand);
+          if (isNeg(l)) return op("-", r, l.operand);
+          break;
+        default:
+          break;
+      }
+      return { ...e, left: l, right: r };
+    }
+    default:
+      return e;
+  }
+}
+
+// ---------------------------------------------------------------------------------------------------
+// A normal form for display: expand products over sums and collect like terms, so derived formulas such
+// as the Savage partials of the entropy print as `-ln(q)` rather than as the unexpanded chain rule.
+
+/** One term: a coefficient times atoms (names, calls, non-integer powers, non-monomial denominators) to integer powers. */
+interface Mono {
+  coef: number;
+  factors: Map<string, { atom: Expr; pow: number }>;
+}
+
+/** Terms beyond this are not expanded (the display falls back to the simplified tree). */
+const MAX_TERMS = 48;
+/** Integer powers of sums expanded up to this exponent. */
+const MAX_EXPAND_POWER = 4;
+
+function monoKey(m: Mono): string {
+  return [...m.factors.entries()].filter(([, f]) => f.pow !== 0).sort(([a], [b]) => (a < b ? -1 : a > b ? 1 : 0)).map(([k, f]) => `${k}^${f.pow}`).join("*");
+}
+
+function collect(terms: Mono[]): Mono[] | null {
+  const byKey = new Map<string, Mono>();
+  for (const t of terms) {
+    const k = monoKey(t);
+    const prev = byKey.get(k);
+    if (prev) prev.coef += t.coef;
+    else byKey.set(k, { coef: t.coef, factors: new Map([...t.factors].filter(([, f]) => f.pow !== 0)) });
+  }
+  const out = [...byKey.values()].filter((m) => Math.abs(m.coef) > COEF_TOL);
+  return out.length > MAX_TERMS ? null : out;
+}
+
+function mulMono(a: Mono, b: Mono): Mono {
+  const factors = new Map([...a.factors].map(([k, f]) => [k, { ...f }]));
+  for (const [k, f] of b.factors) {
+    const prev = factors.get(k);
+    if (prev) prev.pow += f.pow;
+    else factors.set(k, { ...f });
+  }
+  return { coef: a.coef * b.coef, factors };
+}
+
+function mulSum(a: Mono[], b: Mono[]): Mono[] | null {
+  if (a.length * b.length > MAX_TERMS * 4) return null;
+  const out: Mono[] = [];
+  for (const x of a) for (const y of b) out.push(mulMono(x, y));
+  return collect(out);
+}
+
+function atomSum(atom: Expr, pow = 1): Mono[] {
+  return [{ coef: 1, factors: new Map([[printExpr(atom), { atom, pow }]]) }];
+}
+
+function normalise(e: Expr): Mono[] | null {
+  switch (e.kind) {
+    case "number": return [{ coef: e.value, factors: new Map() }];
+    case "name": return CONSTANTS.has(e.name) ? [{ coef: CONSTANTS.get(e.name)!.value, factors: new Map() }] : atomSum(e);
+    case "paren": return normalise(e.inner);
+    case "unary": {
+      if (e.op === "not") return null;
+      const a = normalise(e.operand);
+      return a && e.op === "-" ? a.map((m) => ({ ...m, coef: -m.coef })) : a;
+    }
+    case "call": {
+      const args: Expr[] = [];
+      for (const x of e.args) {
+        const n = normalise(x);
+        args.push(n ? fromMonos(n) : x);
+      }
+      return atomSum(call(e.callee, ...args));
+    }
+    case "binary": {
+      const a = normalise(e.left);
+      if (!a) return null;
+      if (e.op === "^") {
+        const p = simplify(e.right);
+        if (p.kind === "number" && Number.isInteger(p.value)) {
+          if (a.length === 1) {
+            const m = a[0]!;
+            return [{ coef: m.coef ** p.value, factors: new Map([...m.factors].map(([k, f]) => [k, { atom: f.atom, pow: f.pow * p.value }])) }];
+          }
+          if (p.value >= 0 && p.value <= MAX_EXPAND_POWER) {
+            let out: Mono[] | null = [{ coef: 1, factors: new Map() }];
+            for (let i = 0; i < p.value && out; i++) out = mulSum(out, a);
+            return out;
+          }
+          return atomSum(fromMonos(a), p.value);
+        }
+        const exponent = normalise(e.right);
+        return atomSum(op("^", fromMonos(a), exponent ? fromMonos(exponent) : e.right));
+      }
+      const b = normalise(e.right);
+      if (!b) return null;
+      switch (e.op) {
+        case "+": return collect([...a, ...b]);
+        case "-": return collect([...a, ...b.map((m) => ({ ...m, coef: -m.coef }))]);
+        case "*": return mulSum(a, b);
+        case "/": {
+          if (b.length === 1 && Math.abs(b[0]!.coef) > COEF_TOL) {
+            const m = b[0]!;
+            const inv: Mono = { coef: 1 / m.coef, factors: new Map([...m.factors].map(([k, f]) => [k, { atom: f.atom, pow: -f.pow }])) };
+            return collect(a.map((x) => mulMono(x, inv)));
+          }
+          if (b.length === 0) return null;
+          const ratio = proportion(a, b);
+          if (ratio !== null) return ratio === 0 ? [] : [{ coef: ratio, factors: new Map() }];
+          return mulSum(a, atomSum(fromMonos(b), -1));
+        }
+        default: return null;
+      }
+    }
+    default: return null;
+  }
+}
+
+/** k when a = k·b term by term (same monomials, proportional coefficients), else null. */
+function proportion(a: Mono[], b: Mono[]): number | null {
+  if (a.length === 0) return 0;
+  if (a.length !== b.length) return null;
+  const byKey = new Map(b.map((m) => [monoKey(m), m.coef]));
+  let k: number | null = null;
+  for (const m of a) {
+    const c = byKey.get(monoKey(m));
+    if (c === undefined) return null;
+    const r = m.coef / c;
+    if (k === null) k = r;
+    else if (Math.abs(r - k) > COEF_TOL * Math.max(1, Math.abs(k))) return null;
+  }
+  return k;
+}
+
+function fromMonos(terms: Mono[]): Expr {
+  // Terms in q's power order first (ascending), then by their printed factors, for a stable reading order.
+  const order = (m: Mono) => {
+    let qPow = 0;
+    for (const [k, f] of m.factors) if (k === "q" || k === "v") qPow = f.pow;
+    return qPow;
+  };
+  const sorted = [...terms].sort((a, b) => order(a) - order(b) || (monoKey(a) < monoKey(b) ? -1 : monoKey(a) > monoKey(b) ? 1 : 0));
+  return sumExpr(sorted.map((m) => {
+    const ups: Expr[] = [];
+    const downs: Expr[] = [];
+    for (const f of m.factors.values()) {
+      if (f.pow === 0) continue;
+      const base = f.atom;
+      const mag = Math.abs(f.pow);
+      const t = mag === 1 ? base : op("^", base, num(mag));
+      (f.pow > 0 ? ups : downs).push(t);
+    }
+    const product = (xs: Expr[]): Expr | null => xs.reduce<Expr | null>((acc, x) => (acc ? op("*", acc, x) : x), null);
+    const top = product(ups);
+    const bottom = product(downs);
+    let term = scaled(Math.abs(m.coef), top);
+    if (bottom) term = op("/", top === null && Math.abs(m.coef) === 1 ? num(1) : term, bottom);
+    return { sign: Math.sign(m.coef), term };
+  }));
+}
+
+/** A tiny evaluator for the display check (names not given in `env` are undefined: NaN). */
+function evaluate(e: Expr, env: ReadonlyMap<string, number>): number {
+  switch (e.kind) {
+    case "number": return e.value;
+    case "name": return env.get(e.name) ?? CONSTANTS.get(e.name)?.value ?? NaN;
+    case "paren": return evaluate(e.inner, env);
+    case "unary": return e.op === "-" ? -evaluate(e.operand, env) : e.op === "+" ? evaluate(e.operand, env) : NaN;
+    case "call": {
+      const b = BUILTINS.get(e.callee);
+      return b ? b.fn(...e.args.map((a) => evaluate(a, env))) : NaN;
+    }
+    case "binary": {
+      const l = evaluate(e.left, env);
+      const r = evaluate(e.right, env);
+      switch (e.op) {
+        case "+": return l + r;
+        case "-": return l - r;
+        case "*": return l * r;
+        case "/": return l / r;
+        case "^": return Math.pow(l, r);
+        default: return NaN;
+      }
+    }
+    default: return NaN;
+  }
+}
+
+/** Points where a rewritten formula must agree with the original (inside (0,1) for q; any for the rest). */
+const CHECK_POINTS = [0.137, 0.371, 0.713];
+/** Agreement required of a rewritten formula (relative), far above the rounding of a few dozen operations. */
+const REWRITE_TOL = 1e-9;
+
+function names(e: Expr): Set<string> {
+  const out = new Set<string>();
+  const walk = (x: Expr): void => {
+    if (x.kind === "name" && !CONSTANTS.has(x.name)) out.add(x.name);
+    if (x.kind === "call") x.args.forEach(walk);
+    if (x.kind === "unary") walk(x.operand);
+    if (x.kind === "binary") { walk(x.left); walk(x.right); }
+    if (x.kind === "paren") walk(x.inner);
+    if (x.kind === "if") { walk(x.cond); walk(x.then); walk(x.else); }
+  };
+  walk(e);
+  return out;
+}
+
+/** True when two formulas agree at the check points (both undefined counts as agreement). */
+function sameFunction(a: Expr, b: Expr): boolean {
+  const vars = [...new Set([...names(a), ...names(b)])].sort();
+  let compared = 0;
+  for (const x of CHECK_POINTS) {
+    const env = new Map(vars.map((n, i) => [n, n === "q" || n === "v" ? x : 1.3 + 0.17 * i]));
+    const va = evaluate(a, env);
+    const vb = evaluate(b, env);
+    if (Number.isNaN(va) && Number.isNaN(vb)) continue;
+    if (!Number.isFinite(va) || !Number.isFinite(vb)) {
+      if (va !== vb) return false;
+      continue;
+    }
+    if (Math.abs(va - vb) > REWRITE_TOL * Math.max(1, Math.abs(va), Math.abs(vb))) return false;
+    compared++;
+  }
+  return compared > 0;
+}
+
+/** The expanded, collected form of an expression when it is valid and agrees numerically with it; null otherwise. */
+function expanded(e: Expr): Expr | null {
+  const monos = normalise(e);
+  if (!monos) return null;
+  const out = simplify(tidy(fromMonos(monos)));
+  return sameFunction(e, out) ? out : null;
+}
+
 /** Prints a derived expression after simplification. */
 export function show(e: Expr): string {
-  return printExpr(simplify(e));
+  let cur = simplify(e);
+  // Tidying can expose further constant folds, and folds can expose further tidying; two rounds settle it.
+  for (let i = 0; i < 2; i++) cur = simplify(tidy(cur));
+  const plain = printExpr(cur);
+  const alt = expanded(cur);
+  const other = alt ? printExpr(alt) : null;
+  return other !== null && other.length < plain.length ? other : plain;
 }
 
 /**
@@ -176,6 +463,48 @@ function rMul(a: Rational, b: Rational): Rational | null {
   const n = mul(a.num, b.num);
   const d = mul(a.den, b.den);
   return n && d ? { num: n, den: d } : null;
+}
+
+/** Scales a polynomial so its largest coefficient has magnitude 1 (keeps Euclid's remainders well-conditioned). */
+function normalisePoly(p: Poly): Poly {
+  const m = Math.max(...p.map((c) => Math.abs(c)));
+  return m > 0 ? trim(p.map((c) => c / m)) : p;
+}
+
+/** Greatest common divisor of two polynomials by Euclid's algorithm, with remainders below a relative tolerance taken as zero. */
+function gcdPoly(a: Poly, b: Poly): Poly {
+  let x = normalisePoly(trim(a));
+  let y = normalisePoly(trim(b));
+  for (let i = 0; i < 2 * MAX_DEGREE + 2 && !isZero(y); i++) {
+    const r = normalisePoly(divide(x, y).r.map((c) => (Math.abs(c) < 1e-9 ? 0 : c)));
+    x = y;
+    y = trim(r);
+  }
+  return x;
+}
+
+/** Cancels the common factor of numerator and denominator, and makes the denominator's leading coefficient positive. */
+function reduce(r: Rational): Rational {
+  const g = gcdPoly(r.num, r.den);
+  let num = r.num;
+  let den = r.den;
+  if (deg(g) > 0) {
+    const n = divide(r.num, g);
+    const d = divide(r.den, g);
+    const small = (p: Poly) => p.every((c) => Math.abs(c) < 1e-9);
+    if (small(n.r) && small(d.r)) {
+      num = n.q;
+      den = d.q;
+    }
+  }
+  const dd = trim(den);
+  const lead = dd[dd.length - 1]!;
+  // A monic-like denominator: divide both by its leading coefficient when that keeps the numbers short.
+  const scale = Number.isInteger(1 / lead) || Number.isInteger(lead) ? lead : 1;
+  const out = { num: trim(num).map((c) => c / scale), den: dd.map((c) => c / scale) };
+  // A numerator with only negative coefficients reads better with the signs moved into the denominator.
+  if (out.num.every((c) => c <= 0) && out.num.some((c) => c < 0)) return { num: out.num.map((c) => -c), den: out.den.map((c) => -c) };
+  return out;
 }
 
 /** Converts an expression to a rational function of `x`, or null when it is not one (other names, calls, conditions). */
@@ -298,8 +627,9 @@ function polyExpr(p: Poly, x: string): Expr {
  */
 export function showBest(e: Expr, x: string): string {
   const plain = show(e);
-  const r = toRational(simplify(e), x);
-  if (!r) return plain;
+  const raw = toRational(simplify(e), x);
+  if (!raw) return plain;
+  const r = reduce(raw);
   const d = trim(r.den);
   let text: string;
   if (deg(d) === 0) {
@@ -308,7 +638,7 @@ export function showBest(e: Expr, x: string): string {
     const { q, r: rem } = divide(r.num, d);
     if (!isZero(rem)) {
       // Normalise the denominator's leading coefficient so `(2 - 2q)` style factors do not multiply.
-      text = `(${printExpr(polyExpr(trim(r.num), x))}) / (${printExpr(polyExpr(d, x))})`;
+      text = printExpr(op("/", polyExpr(trim(r.num), x), polyExpr(d, x)));
     } else {
       text = printExpr(simplify(polyExpr(q, x)));
     }
@@ -479,7 +809,10 @@ function actionRecovery(doc: DocumentAnalysis, loss: LossInfo, issue?: Issue): C
   const a = clauseExpr(doc.model, loss, "l1");
   const b = clauseExpr(doc.model, loss, "l0");
   if (!a?.d1 || !b?.d1 || a.variable !== "q" || b.variable !== "q") return [];
-  const body = show(recoveryMap(a.d1, b.d1));
+  const map = recoveryMap(a.d1, b.d1);
+  // A map that does not depend on q recovers nothing (linear partials: the minimiser sits at 0 or 1).
+  if (!dependsOn(map, "q")) return [];
+  const body = show(map);
   // Loss-local parameters are not in scope at top level, so they become extra helper parameters.
   const extra = [...loss.localParams.keys()].filter((p) => new RegExp(`\\b${p}\\b`, "u").test(body));
   const helper = freshName(doc, `${loss.name}_recovery`);
@@ -497,6 +830,9 @@ function actionRecovery(doc: DocumentAnalysis, loss: LossInfo, issue?: Issue): C
 /** Add `link = canonical` to a loss given by partials on probabilities with no link. */
 function actionCanonicalLink(doc: DocumentAnalysis, loss: LossInfo): CodeAction[] {
   if (loss.form !== "partials" || loss.clauses.has("link") || loss.hasErrors) return [];
+  // The canonical link ψ′ = w is defined for proper losses only; an improper verdict rules it out.
+  const verdict = doc.losses.find((r) => r.info === loss)?.analysis?.verdict;
+  if (verdict === "improper") return [];
   const last = loss.decl.clauses[loss.decl.clauses.length - 1];
   if (!last) return [];
   const newText = `${eolOf(doc.text)}${indentAt(doc.text, last.span.start)}link = canonical`;
@@ -541,7 +877,8 @@ export function computeCodeActions(doc: DocumentAnalysis, range: Span, contextIs
   if (loss) {
     out.push(...actionCanonicalLink(doc, loss));
     const report = doc.losses.find((r) => r.info === loss);
-    if (report?.analysis?.verdict === "improper" && !recoveryFor.has(loss.name)) out.push(...actionRecovery(doc, loss));
+    // Offered on an improper loss only when the engine found the minimiser invertible (a monotone recovery).
+    if (report?.analysis?.verdict === "improper" && report.analysis.recovery?.monotone && !recoveryFor.has(loss.name)) out.push(...actionRecovery(doc, loss));
   }
   return out;
 }

@@ -17,6 +17,7 @@ export function shortSummary(a: LossAnalysis): string {
   return `${verdict} · λ ${formatNumber(a.lambda)} · exponents ${formatNumber(a.exponents.viaModulus)} / ${formatNumber(a.exponents.direct)}`;
 }
 
+/** One lens per loss, titled with the engine summary (or why there is none yet). */
 export function computeCodeLenses(doc: DocumentAnalysis): CodeLens[] {
   return doc.losses.map((r) => {
     const title = r.analysis
@@ -34,6 +35,7 @@ export interface LossSummary {
   summary: string;
 }
 
+/** The status-bar summary of the loss containing the offset, or null outside losses. */
 export function computeLossSummary(doc: DocumentAnalysis, offset: number): LossSummary | null {
   const info = findLossAt(doc.model, offset);
   if (!info) return null;

@@ -146,6 +146,9 @@ export function computeCompletions(doc: DocumentAnalysis, offset: number): Compl
   const before = lineBefore.slice(0, lineBefore.length - word.length);
   if (/\bexpect\s+strictly\s+$/u.test(before)) return claimItems(true);
   if (/\bexpect\s+$/u.test(before)) return claimItems(false);
+  if (/^\s*link\s*=\s*$/u.test(before)) {
+    return [{ label: "canonical", kind: "keyword", detail: "link = canonical: ψ′ = w", documentation: CLAUSE_DOCS.link, sortGroup: 0 }];
+  }
   const depth = braceDepth(text, offset);
   if (depth === 0) {
     // At top level: a keyword at the start of a line, otherwise an expression (a default, a helper body).

@@ -8,6 +8,7 @@
  * and every non-finite sample becomes a null gap with a note.
  */
 import { analyseProperness } from "../analysis/properness.js";
+import { boundedUnitFn } from "../analysis/convex.js";
 import { analyseCurvature, type CurvatureResult } from "../analysis/curvature.js";
 import { sampleCurves, type CurveSet, type Series } from "../analysis/curves.js";
 import { deriveLossFunctions } from "../analysis/derive.js";
@@ -15,7 +16,7 @@ import type { LossFamily, LossFunctions, LossSpec } from "../analysis/loss-model
 import { fmt } from "../analysis/numeric.js";
 import { minimiseRisk } from "../analysis/recovery.js";
 import type { CurvesParams, CurvesResult, LossCurves, LossFigures, SeriesData } from "../protocol.js";
-import type { DocumentAnalysis, LossReport } from "./document.js";
+import { lossCacheKey, type DocumentAnalysis, type LossReport } from "./document.js";
 
 /** Default η values of the conditional-risk curves: a 0.05 grid (the viewer's η slider steps through them). */
 export const DEFAULT_ETAS: readonly number[] = Array.from({ length: 19 }, (_, i) => Math.round((i + 1) * 5) / 100);
@@ -35,10 +36,35 @@ export const CURVATURE_MS = 1500;
  * and a curve leaving it by more than CLIP_FACTOR times that range's height is clipped (common practice:
  * a curve that diverges at an endpoint would otherwise flatten everything else to a line).
  */
-export const CLIP_INTERIOR = 0.02;
+export const CLIP_INTERIOR = 0.05;
 export const CLIP_FACTOR = 1;
 /** A minimiser farther than this from η is reported in the notes (grid and golden-section accuracy is ~1e-8). */
 export const MINIMISER_NOTE_TOL = 1e-4;
+/**
+ * Sampled losses kept for reuse (least recently used dropped first). While a slider moves, only the
+ * loss it belongs to changes; the others of the overlay come from here. About 0.3 MB each at 151 points.
+ */
+export const CURVE_CACHE_SIZE = 48;
+
+/**
+ * The curves are a deterministic function of the loss's text (with the globals and helpers it uses),
+ * the values drawn, the η list and the number of samples, so they are memoised on exactly that.
+ */
+const curveCache = new Map<string, LossCurves | { reason: string }>();
+
+function cachedCurves(key: string, make: () => LossCurves | { reason: string }): LossCurves | { reason: string } {
+  const hit = curveCache.get(key);
+  if (hit) {
+    curveCache.delete(key);
+    curveCache.set(key, hit);
+    // A copy: callers may annotate what they get without changing the cache.
+    return structuredClone(hit);
+  }
+  const made = make();
+  curveCache.set(key, made);
+  while (curveCache.size > CURVE_CACHE_SIZE) curveCache.delete(curveCache.keys().next().value!);
+  return structuredClone(made);
+}
 
 /**
  * Samples the curves of the losses in `doc` (all, or those named in `params.losses`) at their defaults
@@ -53,7 +79,9 @@ export function computeCurves(doc: DocumentAnalysis, params: CurvesParams): Curv
     const name = report.info.name;
     if (wanted && !wanted.has(name)) continue;
     try {
-      const drawn = curvesForLoss(report, params.overrides?.[name] ?? {}, etas, points);
+      const overrides = params.overrides?.[name] ?? {};
+      const key = [lossCacheKey(doc.text, doc.model, report.info), report.analysis?.verdict ?? "-", JSON.stringify(Object.entries(overrides).sort()), etas.join(","), points].join("\u0001");
+      const drawn = cachedCurves(key, () => curvesForLoss(report, overrides, etas, points));
       if ("reason" in drawn) result.skipped.push({ loss: name, reason: drawn.reason });
       else result.losses.push(drawn);
     } catch (err) {
@@ -151,8 +179,10 @@ function curvesForLoss(report: LossReport, overrides: Record<string, number>, et
     for (const n of derived.fns.notes) notes.push(n);
   }
 
-  const curvature: CurvatureResult = analyseCurvature(fns, { deadlineMs: CURVATURE_MS });
-  const set: CurveSet = sampleCurves(fns, curvature, { points });
+  // An improper loss gets only the curves of the loss itself: its curvature would describe a regret
+  // bound it does not have, and skipping that analysis keeps its sliders (J1: the focal loss) quick.
+  const curvature: CurvatureResult | null = verdict === "improper" ? null : analyseCurvature(fns, { deadlineMs: CURVATURE_MS });
+  const set: CurveSet = curvature ? sampleCurves(fns, curvature, { points }) : sampleLossCurves(fns, points);
   // Notes about curves that are not drawn for an improper loss would only confuse.
   const improperLoss = verdict === "improper";
   const hiddenForImproper = /^(w\(q\)|w has|δ|Bound curves|The modulus-route)/;
@@ -202,14 +232,14 @@ function curvesForLoss(report: LossReport, overrides: Record<string, number>, et
   if (link) clip("link", "link", [link]);
 
   const figures: LossFigures = {
-    lambda: improper ? null : curvature.lambda,
-    modulus: improper ? null : curvature.modulus,
-    exponents: improper ? { viaModulus: null, direct: null } : { viaModulus: curvature.exponents.viaModulus, direct: curvature.exponents.direct },
-    inverseTable: improper ? [] : curvature.inverseTable.map((r) => ({ ...r })),
-    exponentNote: improper ? null : curvature.exponents.explanation,
-    units: { decisionRegret: curvature.units.decisionRegret, surrogateRegret: curvature.units.surrogateRegret },
+    lambda: curvature ? curvature.lambda : null,
+    modulus: curvature ? curvature.modulus : null,
+    exponents: curvature ? { viaModulus: curvature.exponents.viaModulus, direct: curvature.exponents.direct } : { viaModulus: null, direct: null },
+    inverseTable: curvature ? curvature.inverseTable.map((r) => ({ ...r })) : [],
+    exponentNote: curvature ? curvature.exponents.explanation : null,
+    ...(curvature ? { units: { decisionRegret: curvature.units.decisionRegret, surrogateRegret: curvature.units.surrogateRegret } } : {}),
   };
-  const summary = !overridden && report.analysis && report.analysis.verdict !== "unknown" ? report.analysis.summary : `${verdictText(verdict)} · ${improper ? "no regret bound" : curvature.summary}`;
+  const summary = !overridden && report.analysis && report.analysis.verdict !== "unknown" ? report.analysis.summary : `${verdictText(verdict)} · ${curvature ? curvature.summary : "no regret bound"}`;
 
   return {
     loss: report.info.name,
@@ -233,6 +263,42 @@ function curvesForLoss(report: LossReport, overrides: Record<string, number>, et
 
 function verdictText(v: LossCurves["verdict"]): string {
   return v === "strictly-proper" ? "strictly proper" : v === "proper" ? "proper (not strictly)" : v === "improper" ? "improper" : "verdict unknown";
+}
+
+/** Samples g on xs; non-finite values become null, counted in a note (as `sampleCurves` does). */
+function sampleSeries(id: string, label: string, xs: number[], g: (x: number) => number, notes: string[]): Series {
+  let bad = 0;
+  let firstBad = NaN;
+  const y = xs.map((x) => {
+    let v: number;
+    try {
+      v = g(x);
+    } catch {
+      v = NaN;
+    }
+    if (Number.isFinite(v)) return v;
+    if (bad === 0) firstBad = x;
+    bad++;
+    return null;
+  });
+  if (bad > 0) notes.push(`${label}: ${bad} sample${bad === 1 ? "" : "s"} not finite (shown as gaps), first at ${fmt(firstBad)}.`);
+  return { id, label, x: xs, y };
+}
+
+/** The curves of the loss itself (partials, H, link) without the curvature analysis, for improper losses. */
+function sampleLossCurves(fns: LossFunctions, points: number): CurveSet {
+  const notes: string[] = [];
+  const qs = gridOf(points);
+  return {
+    partials: [sampleSeries("l1", "l1(q)", qs, fns.l1, notes), sampleSeries("l0", "l0(q)", qs, fns.l0, notes)],
+    // Endpoint values of H by their limits, as the engine's sampler does.
+    bayes: sampleSeries("bayes", "H(q)", qs, boundedUnitFn(fns.bayes), notes),
+    weight: null,
+    modulus: [],
+    bounds: [],
+    link: fns.link ? sampleSeries("link", "ψ(q)", qs, fns.link, notes) : null,
+    notes,
+  };
 }
 
 function gridOf(points: number): number[] {

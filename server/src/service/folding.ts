@@ -15,6 +15,7 @@ function lineBreakBetween(text: string, span: Span): boolean {
   return false;
 }
 
+/** Foldable regions in document order (the LSP layer turns them into line ranges). */
 export function computeFoldingRanges(doc: DocumentAnalysis): FoldingRange[] {
   const text = doc.text;
   const out: FoldingRange[] = [];

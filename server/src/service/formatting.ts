@@ -2,6 +2,7 @@
 import { formatDocument } from "../syntax/format.js";
 import type { TextEdit } from "./navigation.js";
 
+/** The edits that format the whole document; none when it is already formatted or has syntax errors. */
 export function computeFormatting(text: string, options: { indent?: number } = {}): TextEdit[] {
   const result = formatDocument(text, options.indent !== undefined ? { indent: options.indent } : {});
   if (!result || !result.changed) return [];

@@ -60,7 +60,7 @@ export function describeLoss(model: SemanticModel, report: LossReport): string {
   if (!a) {
     lines.push("", info.hasErrors || !report.compiled
       ? "_Not analysed: the loss has errors (see the diagnostics)._"
-      : "_Analysis pending…_");
+      : "_Not analysed yet: the engine runs when typing pauses, on the first `propriety.maxAnalysedLosses` losses of a file._");
     return lines.join("\n");
   }
   lines.push("", `**Verdict:** ${verdictText(a.verdict)}${paramSummary(a.params)}`);
@@ -119,7 +119,8 @@ export function describeClause(model: SemanticModel, loss: LossInfo, clause: Cla
   const x = c?.variable ?? "q";
   const f = (e: Parameters<typeof showBest>[0]) => code(showBest(e, x));
   if (c) {
-    lines.push("", `${clause}(${x}) = ${f(c.expr)}`);
+    // The clause as written (helpers inlined), then what is derived from it.
+    lines.push("", `${clause}(${x}) = ${code(printExpr(c.expr))}`);
     if (c.d1) lines.push(`${clause}′(${x}) = ${f(c.d1)}`);
   }
   switch (clause) {

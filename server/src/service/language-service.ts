@@ -36,9 +36,10 @@ export interface ServiceSettings {
 
 /** Cache entries kept before the oldest are dropped (a few hundred losses of edit history). */
 const MAX_CACHE_ENTRIES = 2000;
-/** Analyses remembered by text (the open documents' latest versions). */
-const MAX_MEMO = 8;
+/** Analyses remembered by text (the open documents' latest versions; each holds a whole AST, so few). */
+const MAX_MEMO = 4;
 
+/** The editor features over document text; see createLanguageService. */
 export interface LanguageService {
   /** Syntax, semantics and cached engine findings; never runs the engine. */
   analyseFast(text: string): DocumentAnalysis;
@@ -202,7 +203,9 @@ export function createLanguageService(initial: Partial<ServiceSettings> = {}, on
     foldingRanges: (text) => guardedValue([], () => computeFoldingRanges(analyseFast(text)), "foldingRanges"),
     codeLenses: (text) => guardedValue([], () => computeCodeLenses(analyseFast(text)), "codeLenses"),
     lossSummary: (text, offset) => guardedValue(null, () => computeLossSummary(analyseFast(text), offset), "lossSummary"),
-    codeActions: (text, range, issues) => guardedValue([], () => computeCodeActions(analyseFull(text), range, issues), "codeActions"),
+    // Editors ask for code actions on every cursor move: the fast analysis (with cached engine results)
+    // keeps that from running the engine ahead of the debounce.
+    codeActions: (text, range, issues) => guardedValue([], () => computeCodeActions(analyseFast(text), range, issues), "codeActions"),
     format: (text) => guardedValue([], () => computeFormatting(text, settings.indent !== undefined ? { indent: settings.indent } : {}), "format"),
     configure(next) {
       settings = { ...settings, ...next, analysis: { ...settings.analysis, ...(next.analysis ?? {}) } };

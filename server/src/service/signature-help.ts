@@ -18,6 +18,7 @@ export interface SignatureHelp {
 /** How far back to look for the opening parenthesis (a call is written on a few lines at most). */
 const MAX_LOOKBACK = 2000;
 
+/** The signature of the innermost call around the offset, with the argument the cursor is in; null outside calls. */
 export function computeSignatureHelp(doc: DocumentAnalysis, offset: number): SignatureHelp | null {
   const text = doc.text;
   if (offset < 0 || offset > text.length) return null;

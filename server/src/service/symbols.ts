@@ -17,6 +17,7 @@ export interface DocumentSymbol {
   children: DocumentSymbol[];
 }
 
+/** The outline of a document, in source order. */
 export function computeDocumentSymbols(doc: DocumentAnalysis): DocumentSymbol[] {
   const out: DocumentSymbol[] = [];
   const lossInfo = new Map(doc.model.losses.map((l) => [l.decl, l]));

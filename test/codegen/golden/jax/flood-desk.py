@@ -4,7 +4,6 @@
 # JAX: jit with the reduction static, e.g. jax.jit(f, static_argnames="reduction"); differentiate with jax.grad.
 import jax
 import jax.numpy as jnp
-import jax.scipy.special
 
 # Clamping bound for probabilities where a singularity remains: 1e-7 suits float32 (machine epsilon 1.19e-7),
 # so 1 - EPS is still below 1 and the logarithms stay finite.

@@ -8,7 +8,6 @@
 # not generated: `out_of_range`: the loss `out_of_range` has errors; fix them first (run `propriety check`)
 import jax
 import jax.numpy as jnp
-import jax.scipy.special
 
 
 def _reduce(loss, weight, reduction):
