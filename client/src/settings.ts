@@ -2,7 +2,7 @@
 import * as vscode from "vscode";
 
 export interface ProprietySettings {
-  analysis: { deadlineMs: number; gridResolution: number; tolerance: number };
+  analysis: { deadlineMs: number; gridResolution: number };
   defaultThreshold: number;
   maxAnalysedLosses: number;
   debounceMs: number;
@@ -16,7 +16,6 @@ export function readSettings(): ProprietySettings {
     analysis: {
       deadlineMs: c.get<number>("analysis.deadlineMs", 2000),
       gridResolution: c.get<number>("analysis.gridResolution", 201),
-      tolerance: c.get<number>("analysis.tolerance", 1e-9),
     },
     defaultThreshold: c.get<number>("defaultThreshold", 0.5),
     maxAnalysedLosses: c.get<number>("maxAnalysedLosses", 200),

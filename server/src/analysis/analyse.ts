@@ -47,6 +47,10 @@ export interface AnalyseOptions {
   /** Time budget in milliseconds for properness and for curvature, each. */
   deadlineMs?: number;
   seed?: number;
+  /** Grid resolution of the properness scans over q and η (the engine's default when absent). */
+  gridResolution?: number;
+  /** Threshold c of losses without a `threshold` clause (1/2 when absent); read when the loss is compiled. */
+  defaultThreshold?: number;
 }
 
 /** The time budget per stage; generous for the CLI, the language server passes its own. */
@@ -69,7 +73,11 @@ export function analyseFamily(family: LossFamily, options: AnalyseOptions = {}):
   } catch (err) {
     return emptyAnalysis(defaults, 0.5, [{ code: "internal-error", clause: "loss", message: `internal error while instantiating the loss: ${String(err)}` }]);
   }
-  const prop: PropernessResult = analyseProperness(family, { deadlineMs, ...(options.seed !== undefined ? { seed: options.seed } : {}) });
+  const prop: PropernessResult = analyseProperness(family, {
+    deadlineMs,
+    ...(options.seed !== undefined ? { seed: options.seed } : {}),
+    ...(options.gridResolution !== undefined ? { resolution: Math.max(11, Math.round(options.gridResolution)) } : {}),
+  });
   const findings: Finding[] = prop.findings.map((f) =>
     // The range sweep belongs with the verdict the user reads first ("improper for g > 0; proper at g = 0").
     f.code === "improper" && prop.paramReport ? { ...f, message: `${f.message} Over the declared ranges: ${prop.paramReport}.`, data: { ...f.data, paramReport: prop.paramReport } } : f,

@@ -33,7 +33,7 @@ export const ANALYSED_NOTIFICATION = "propriety/analysed";
 
 /** The `propriety.*` settings the client sends (initializationOptions.settings or didChangeConfiguration). */
 export interface ClientSettings {
-  analysis?: { deadlineMs?: number; gridResolution?: number; tolerance?: number; seed?: number };
+  analysis?: { deadlineMs?: number; gridResolution?: number; seed?: number };
   defaultThreshold?: number;
   maxAnalysedLosses?: number;
   debounceMs?: number;
@@ -47,13 +47,12 @@ export function toServiceSettings(s: ClientSettings | undefined): Partial<Servic
   const num = (x: unknown): number | undefined => (typeof x === "number" && Number.isFinite(x) ? x : undefined);
   const analysis: Record<string, number> = {};
   const a = s.analysis ?? {};
-  for (const k of ["deadlineMs", "gridResolution", "tolerance", "seed"] as const) {
+  for (const k of ["deadlineMs", "gridResolution", "seed"] as const) {
     const v = num(a[k]);
     if (v !== undefined) analysis[k] = v;
   }
   const t = num(s.defaultThreshold);
-  // Forwarded to the engine, which reads the options it knows; the others are ignored there.
-  if (t !== undefined) analysis["defaultThreshold"] = t;
+  if (t !== undefined && t > 0 && t < 1) analysis["defaultThreshold"] = t;
   out.analysis = analysis;
   const max = num(s.maxAnalysedLosses);
   if (max !== undefined && max >= 1) out.maxAnalysedLosses = Math.floor(max);

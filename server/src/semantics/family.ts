@@ -35,7 +35,8 @@ export function helperBodies(model: SemanticModel): Map<string, { params: string
 }
 
 /** Returns null when the loss has errors (the semantic issues explain why). */
-export function compileLoss(model: SemanticModel, loss: LossInfo): CompiledLoss | null {
+export function compileLoss(model: SemanticModel, loss: LossInfo, options: { defaultThreshold?: number } = {}): CompiledLoss | null {
+  const fallbackThreshold = options.defaultThreshold !== undefined && options.defaultThreshold > 0 && options.defaultThreshold < 1 ? options.defaultThreshold : DEFAULT_THRESHOLD;
   if (loss.hasErrors || loss.form === null) return null;
   const params: ParamRange[] = [];
   const paramNames: string[] = [];
@@ -104,7 +105,7 @@ export function compileLoss(model: SemanticModel, loss: LossInfo): CompiledLoss 
         p[i] = (Object.prototype.hasOwnProperty.call(values, n) ? values[n] : undefined) ?? params[i]!.default;
       });
       const bind = (c: Compiled | null | undefined): RealFn | undefined => (c ? (x: number) => c(x, p) : undefined);
-      const threshold = compiled.threshold ? compiled.threshold.f(NaN, p) : DEFAULT_THRESHOLD;
+      const threshold = compiled.threshold ? compiled.threshold.f(NaN, p) : fallbackThreshold;
       const spec: LossSpec = { name: loss.name, form, params: Object.fromEntries(paramNames.map((n, i) => [n, p[i]!])), threshold };
       const set = (clause: ClauseName, f: keyof LossSpec, d1: keyof LossSpec | null, d2: keyof LossSpec | null) => {
         const c = compiled[clause];

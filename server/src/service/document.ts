@@ -52,7 +52,7 @@ export function analyseDocument(text: string, options: DocumentOptions = {}): Do
     const report: LossReport = { info, compiled: null, analysis: null };
     losses.push(report);
     try {
-      report.compiled = compileLoss(model, info);
+      report.compiled = compileLoss(model, info, options.defaultThreshold !== undefined ? { defaultThreshold: options.defaultThreshold } : {});
     } catch (err) {
       issues.push(makeIssue("internal-error", `internal error while compiling \`${info.name}\`: ${String(err)}`, info.decl.name.span));
       continue;
