@@ -53,6 +53,9 @@ export interface AnalyseOptions {
   defaultThreshold?: number;
 }
 
+/** Findings that only say "this loss is improper"; downgraded to warnings when the loss claims `expect improper`. */
+const IMPROPERNESS_EVIDENCE = new Set<string>(["improper", "l1-increasing", "l0-decreasing", "stationarity-mismatch"]);
+
 /** The time budget per stage; generous for the CLI, the language server passes its own. */
 export const DEFAULT_STAGE_DEADLINE_MS = 2000;
 
@@ -78,10 +81,18 @@ export function analyseFamily(family: LossFamily, options: AnalyseOptions = {}):
     ...(options.seed !== undefined ? { seed: options.seed } : {}),
     ...(options.gridResolution !== undefined ? { resolution: Math.max(11, Math.round(options.gridResolution)) } : {}),
   });
-  const findings: Finding[] = prop.findings.map((f) =>
+  // A loss declared `expect improper` is used knowingly (a focal loss with its recovery map, say): the
+  // evidence of impropriety is still shown, as warnings, so a CI gate on errors passes.
+  const acknowledged = prop.verdict === "improper" && family.claims.some((c) => c.kind === "improper");
+  const findings: Finding[] = prop.findings.map((f) => {
+    let out = f;
     // The range sweep belongs with the verdict the user reads first ("improper for g > 0; proper at g = 0").
-    f.code === "improper" && prop.paramReport ? { ...f, message: `${f.message} Over the declared ranges: ${prop.paramReport}.`, data: { ...f.data, paramReport: prop.paramReport } } : f,
-  );
+    if (f.code === "improper" && prop.paramReport) out = { ...out, message: `${out.message} Over the declared ranges: ${prop.paramReport}.`, data: { ...out.data, paramReport: prop.paramReport } };
+    if (acknowledged && IMPROPERNESS_EVIDENCE.has(f.code) && (f.severity ?? "error") === "error") {
+      out = { ...out, severity: "warning", message: `${out.message} (Expected: the loss says \`expect improper\`.)` };
+    }
+    return out;
+  });
 
   // Curvature and bounds are about the Bayes risk of a proper loss; for an improper loss the regret is
   // not a Bregman divergence of −H and the bounds would not apply.

@@ -15,7 +15,7 @@ import { runGen } from "./gen.js";
 export const VERSION = "0.1.0";
 
 /** Sub-commands this build provides (the demo script reads this). */
-export const COMMANDS = ["check"];
+export const COMMANDS = ["check", "report", "gen"];
 
 export interface CliIo {
   stdout(text: string): void;
