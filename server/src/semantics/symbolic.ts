@@ -16,8 +16,12 @@ const NOSPAN: Span = { start: 0, end: 0 };
 export const num = (value: number): Expr => ({ kind: "number", value, text: numberText(value), span: NOSPAN });
 export const name = (n: string): Expr => ({ kind: "name", name: n, span: NOSPAN });
 export const call = (callee: string, ...args: Expr[]): Expr => ({ kind: "call", callee, calleeSpan: NOSPAN, args, span: NOSPAN });
-const neg = (operand: Expr): Expr => ({ kind: "unary", op: "-", operand, span: NOSPAN });
-const bin = (op: BinaryOp, left: Expr, right: Expr): Expr => ({ kind: "binary", op, left, right, span: NOSPAN });
+/** Unary minus, without simplification. */
+export const negate = (operand: Expr): Expr => ({ kind: "unary", op: "-", operand, span: NOSPAN });
+/** A binary node, without simplification. */
+export const op = (o: BinaryOp, left: Expr, right: Expr): Expr => ({ kind: "binary", op: o, left, right, span: NOSPAN });
+const neg = negate;
+const bin = op;
 const ifx = (cond: Expr, then: Expr, otherwise: Expr): Expr => ({ kind: "if", cond, then, else: otherwise, span: NOSPAN });
 
 function numberText(v: number): string {
@@ -277,6 +281,56 @@ function fold(op: string, a: number, b: number): number {
     case "/": return a / b;
     case "^": return Math.pow(a, b);
     default: return NaN;
+  }
+}
+
+/**
+ * Sign and reciprocal rewrites `simplify` leaves out, so derived formulas read as people write them:
+ * (−1)/y → −(1/y), a·(1/b) → a/b, a·(−b) → −(a·b), a − (−b) → a + b, a + (−b) → a − b, −(−a) → a.
+ */
+export function tidy(e: Expr): Expr {
+  switch (e.kind) {
+    case "paren":
+      return tidy(e.inner);
+    case "unary": {
+      const a = tidy(e.operand);
+      if (e.op === "-" && a.kind === "unary" && a.op === "-") return a.operand;
+      return { ...e, operand: a };
+    }
+    case "call":
+      return { ...e, args: e.args.map(tidy) };
+    case "if":
+      return { ...e, cond: tidy(e.cond), then: tidy(e.then), else: tidy(e.else) };
+    case "binary": {
+      const l = tidy(e.left);
+      const r = tidy(e.right);
+      const isNeg = (x: Expr): x is Extract<Expr, { kind: "unary" }> => x.kind === "unary" && x.op === "-";
+      const isRecip = (x: Expr): x is Extract<Expr, { kind: "binary" }> => x.kind === "binary" && x.op === "/" && x.left.kind === "number" && x.left.value === 1;
+      switch (e.op) {
+        case "/":
+          if (l.kind === "number" && l.value < 0) return neg(bin("/", num(-l.value), r));
+          if (isNeg(l)) return neg(bin("/", l.operand, r));
+          break;
+        case "*":
+          if (isRecip(r)) return tidy(bin("/", l, r.right));
+          if (isRecip(l)) return tidy(bin("/", r, l.right));
+          if (isNeg(r)) return neg(tidy(bin("*", l, r.operand)));
+          if (isNeg(l)) return neg(tidy(bin("*", l.operand, r)));
+          break;
+        case "-":
+          if (isNeg(r)) return bin("+", l, r.operand);
+          break;
+        case "+":
+          if (isNeg(r)) return bin("-", l, r.operand);
+          if (isNeg(l)) return bin("-", r, l.operand);
+          break;
+        default:
+          break;
+      }
+      return { ...e, left: l, right: r };
+    }
+    default:
+      return e;
   }
 }
 

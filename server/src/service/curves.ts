@@ -153,8 +153,12 @@ function curvesForLoss(report: LossReport, overrides: Record<string, number>, et
   // The verdict: the document's analysis at the defaults; a pinned properness check at slider values
   // (or when the document's analysis could not decide).
   let verdict: LossCurves["verdict"] = overridden ? "unknown" : (report.analysis?.verdict ?? "unknown");
-  let fns: LossFunctions | null = null;
+  // At the defaults the document's analysis already holds the derived model (with H = L(η, η) for a proper
+  // loss) and its curvature; deriving again would evaluate H by a minimisation per point.
+  let fns: LossFunctions | null = overridden ? null : (report.analysis?.fns ?? null);
+  let reusedCurvature: CurvatureResult | null = overridden ? null : (report.analysis?.curvature ?? null);
   if (verdict === "unknown") {
+    reusedCurvature = null;
     const p = analyseProperness(pinnedFamily(family, values), { deadlineMs: OVERRIDE_PROPERNESS_MS });
     verdict = p.verdict;
     fns = p.fns;
@@ -181,7 +185,7 @@ function curvesForLoss(report: LossReport, overrides: Record<string, number>, et
 
   // An improper loss gets only the curves of the loss itself: its curvature would describe a regret
   // bound it does not have, and skipping that analysis keeps its sliders (J1: the focal loss) quick.
-  const curvature: CurvatureResult | null = verdict === "improper" ? null : analyseCurvature(fns, { deadlineMs: CURVATURE_MS });
+  const curvature: CurvatureResult | null = verdict === "improper" ? null : (reusedCurvature ?? analyseCurvature(fns, { deadlineMs: CURVATURE_MS }));
   const set: CurveSet = curvature ? sampleCurves(fns, curvature, { points }) : sampleLossCurves(fns, points);
   // Notes about curves that are not drawn for an improper loss would only confuse.
   const improperLoss = verdict === "improper";
