@@ -1103,6 +1103,12 @@ export interface ClaimExtras {
   convex?: boolean | null;
 }
 
+/** A finding's sentence reused inside another sentence: no capital at the start, no full stop at the end. */
+function asClause(sentence: string): string {
+  const s = sentence.trim().replace(/\.$/, "");
+  return /^[A-Z][a-z]/.test(s) ? s[0]!.toLowerCase() + s.slice(1) : s;
+}
+
 function claimText(c: Claim): string {
   switch (c.kind) {
     case "proper":
@@ -1131,7 +1137,7 @@ export function evaluateClaims(family: LossFamily, properness: PropernessResult,
     try {
       const clause = `expect:${claim.index}` as const;
       const fail = (why: string, data?: Record<string, unknown>) =>
-        out.push({ code: "expect-failed", clause, message: `Claim "${claimText(claim)}" fails: ${why}.`, ...(data ? { data } : {}) });
+        out.push({ code: "expect-failed", clause, message: `Claim "${claimText(claim)}" fails: ${asClause(why)}.`, ...(data ? { data } : {}) });
       const undecided = (why: string) => out.push({ code: "expect-undecided", clause, message: `Claim "${claimText(claim)}" could not be decided: ${why}.` });
       const v = properness.verdict;
       const ce = properness.counterexample;

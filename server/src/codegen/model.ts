@@ -6,9 +6,11 @@
  *
  * Forms: partials on q as written; score partials with their link; a Bayes risk through the Savage form
  * l1 = H + (1−q)H', l0 = H − qH' (Savage 1971, via Reid & Williamson 2010, "Composite Binary Losses",
- * JMLR 11, Thm 4); a weight through its integral form (RW10 Thm 6, see weight-integral.ts); a margin φ as
+ * JMLR 11, Thm 4); a weight through its integral form (RW10 Thm 6); a margin φ as
  * φ(v) for y = 1 and φ(−v) for y = 0. Probability input and score input are related through the link
  * (declared, inverted symbolically, implied by a margin loss, or the canonical link ψ' = w, RW10 §6.1).
+ * The Savage partials, the weight integral, the weight by stationarity and the posterior-recovery map are
+ * the semantic layer's derivations (semantics/derived.ts), shared with hovers and quick fixes.
  */
 import type { DefinitionForm } from "../analysis/loss-model.js";
 import type { LossAnalysis } from "../analysis/analyse.js";
@@ -16,11 +18,13 @@ import { nearlyEqual } from "../analysis/numeric.js";
 import type { Expr } from "../syntax/ast.js";
 import { compileExpr } from "../semantics/compile.js";
 import type { LossReport } from "../service/document.js";
-import { call, differentiate, name, NotDifferentiable, num, printExpr as printNotation, simplify, substitute } from "../semantics/symbolic.js";
+import { integrateWeight, recoveryMap, savagePartials, weightFromPartials } from "../semantics/derived.js";
+import {
+  call, dependsOn, differentiate, name, negate as neg, NotDifferentiable, num, op as bin, printExpr as printNotation, simplify, substitute,
+} from "../semantics/symbolic.js";
 import type { CompiledLoss } from "../semantics/family.js";
 import { logit, sigmoid } from "../semantics/builtins.js";
 import { rewriteStable, sameExpr } from "./rewrite.js";
-import { integrateWeight } from "./weight-integral.js";
 
 /**
  * Clamping bound for probabilities where a singularity remains after the stable rewrites. 1e-7 is the
@@ -138,7 +142,7 @@ function engineFacts(report: LossReport): EngineFacts {
 
 /** Symbolic inverse of a link ψ(q): solves ψ(q) = t for q by peeling invertible layers; null when some layer is not. */
 function invertLink(link: Expr, t: Expr, x: string): Expr | null {
-  const dep = (e: Expr) => dependsOnVar(e, x);
+  const dep = (e: Expr) => dependsOn(e, x);
   let e = link;
   while (e.kind === "paren") e = e.inner;
   switch (e.kind) {
@@ -182,25 +186,6 @@ function invertLink(link: Expr, t: Expr, x: string): Expr | null {
       return null;
   }
 }
-
-function dependsOnVar(e: Expr, x: string): boolean {
-  let found = false;
-  const stack = [e];
-  while (stack.length > 0 && !found) {
-    const n = stack.pop()!;
-    if (n.kind === "name" && n.name === x) found = true;
-    else if (n.kind === "paren") stack.push(n.inner);
-    else if (n.kind === "unary") stack.push(n.operand);
-    else if (n.kind === "binary") stack.push(n.left, n.right);
-    else if (n.kind === "if") stack.push(n.cond, n.then, n.else);
-    else if (n.kind === "call") stack.push(...n.args);
-  }
-  return found;
-}
-
-const NOSPAN = { start: 0, end: 0 };
-const neg = (operand: Expr): Expr => ({ kind: "unary", op: "-", operand, span: NOSPAN });
-const bin = (op: "+" | "-" | "*" | "/" | "^", left: Expr, right: Expr): Expr => ({ kind: "binary", op, left, right, span: NOSPAN });
 
 /** True when ψ(ψ⁻¹(v)) = v at the check scores (and ψ⁻¹ lands in (0,1)). */
 function checkInverse(link: (q: number) => number, inverse: (v: number) => number): boolean {
@@ -317,10 +302,8 @@ function lower(report: LossReport, options: LowerOptions): LoweredLoss {
     case "bayes": {
       natural = "q";
       const H = bake(forms.bayes!.expr);
-      const dH = derivative(H, "q", "the Bayes risk");
       // Savage form: l1 = H + (1 − q)H', l0 = H − qH'.
-      l1 = simplify(bin("+", H, bin("*", bin("-", num(1), name("q")), dH)));
-      l0 = simplify(bin("-", H, bin("*", name("q"), dH)));
+      ({ l1, l0 } = savagePartials(H, derivative(H, "q", "the Bayes risk"), "q"));
       break;
     }
     case "weight": {
@@ -417,7 +400,7 @@ function lower(report: LossReport, options: LowerOptions): LoweredLoss {
     } else {
       const d1 = rewriteStable(derivative(l1, "q", "l1"), "q");
       const d0 = rewriteStable(derivative(l0, "q", "l0"), "q");
-      const eta = rewriteStable(bin("/", d0, bin("-", d0, d1)), "q");
+      const eta = rewriteStable(recoveryMap(d1, d0), "q");
       recover = { expr: eta, clamp: singularSides([eta], "q") };
     }
   }
@@ -432,8 +415,7 @@ function lower(report: LossReport, options: LowerOptions): LoweredLoss {
 /** The weight w(q) of a loss on probabilities, numerically: −l1'(q)/(1−q) (RW10 Thm 1, Shuford et al. 1966), or the weight clause itself. */
 function weightOf(form: DefinitionForm, l1: Expr, forms: CompiledLoss["forms"], bake: (e: Expr) => Expr): (q: number) => number {
   if (form === "weight" && forms.weight) return evaluator(bake(forms.weight.expr), "q");
-  const d1 = evaluator(derivative(l1, "q", "l1"), "q");
-  return (q) => -d1(q) / (1 - q);
+  return evaluator(weightFromPartials(derivative(l1, "q", "l1"), null, "q").fromL1!, "q");
 }
 
 /**

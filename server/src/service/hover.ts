@@ -6,11 +6,10 @@ import type { Span } from "../issue.js";
 import type { LossAnalysis } from "../analysis/analyse.js";
 import { BUILTINS, CONSTANTS } from "../semantics/builtins.js";
 import { CLAUSE_DOCS, describeForm, type ClauseName, type LossInfo, type ParamInfo, type SemanticModel } from "../semantics/model.js";
-import { printExpr } from "../semantics/symbolic.js";
+import { bayesFromPartials, partialsFromWeight, recoveryMap, savagePartials, showBest, weightFromPartials } from "../semantics/derived.js";
+import { negate, printExpr } from "../semantics/symbolic.js";
 import type { DocumentAnalysis, LossReport } from "./document.js";
-import {
-  bayesFromPartials, clauseExpr, derivative, partialsFromWeight, recoveryMap, savagePartials, showBest, weightFromPartials,
-} from "./code-actions.js";
+import { clauseExpr, derivative } from "./code-actions.js";
 import { findClauseAt, findLossAt, findReferenceAt, touches } from "./navigation.js";
 
 /** A hover: Markdown text and the span of the word it is about. */
@@ -129,7 +128,7 @@ export function describeClause(model: SemanticModel, loss: LossInfo, clause: Cla
         const s = savagePartials(c.expr, c.d1, "q");
         lines.push("", "Savage partials l1 = H + (1−q)H′, l0 = H − qH′:", `- l1(q) = ${f(s.l1)}`, `- l0(q) = ${f(s.l0)}`);
         const d2 = derivative(c.d1, "q");
-        if (d2) lines.push(`- weight w(q) = −H″(q) = ${code(showBest({ kind: "unary", op: "-", operand: d2, span: { start: 0, end: 0 } }, "q"))}`);
+        if (d2) lines.push(`- weight w(q) = −H″(q) = ${code(showBest(negate(d2), "q"))}`);
       }
       break;
     case "l1":

@@ -78,7 +78,7 @@ def brier(pred, target, weight=None, reduction="mean"):
 # parameters (baked in): a = 2, b = 5, alert = 0.2
 # decision threshold: 0.2
 # input: pred holds probabilities q in [0, 1]
-# partial losses: y = 1: 0.166666666666667 * (1 - q)^6 - 0.142857142857143 * (1 - q)^7; y = 0: 0.333333333333333 * q^3 - q^4 + 1.2 * q^5 - 0.666666666666667 * q^6 + 0.142857142857143 * q^7
+# partial losses: y = 1: (1 - q)^6 / 6 - (1 - q)^7 / 7; y = 0: q^3 / 3 - q^4 + 6 * q^5 / 5 - 2 * q^6 / 3 + q^7 / 7
 # clamping: none (finite on the whole input range)
 def alert_focus(pred, target, weight=None, reduction="mean"):
     """Loss `alert_focus`: per-sample y * l1(q) + (1 - y) * l0(q), optionally weighted, then reduced.
@@ -90,7 +90,7 @@ def alert_focus(pred, target, weight=None, reduction="mean"):
     """
     q = torch.as_tensor(pred)
     y = torch.as_tensor(target, dtype=q.dtype, device=q.device)
-    loss = y * (0.16666666666666666 * (1 - q) ** 6 - 0.14285714285714285 * (1 - q) ** 7) + (1 - y) * (0.3333333333333333 * q ** 3 - q ** 4 + 1.2 * q ** 5 - 0.6666666666666666 * q ** 6 + 0.14285714285714285 * q ** 7)
+    loss = y * ((1 - q) ** 6 / 6 - (1 - q) ** 7 / 7) + (1 - y) * (q ** 3 / 3 - q ** 4 + 6 * q ** 5 / 5 - 2 * q ** 6 / 3 + q ** 7 / 7)
     return _reduce(loss, weight, reduction)
 
 

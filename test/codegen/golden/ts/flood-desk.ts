@@ -131,7 +131,7 @@ export function brierGrad(pred: ArrayLike<number>, target: ArrayLike<number>, op
 // parameters (baked in): a = 2, b = 5, alert = 0.2
 // decision threshold: 0.2
 // input: pred holds probabilities q in [0, 1]
-// partial losses: y = 1: 0.166666666666667 * (1 - q)^6 - 0.142857142857143 * (1 - q)^7; y = 0: 0.333333333333333 * q^3 - q^4 + 1.2 * q^5 - 0.666666666666667 * q^6 + 0.142857142857143 * q^7
+// partial losses: y = 1: (1 - q)^6 / 6 - (1 - q)^7 / 7; y = 0: q^3 / 3 - q^4 + 6 * q^5 / 5 - 2 * q^6 / 3 + q^7 / 7
 // clamping: none (finite on the whole input range)
 /** Loss `alert_focus`: per-sample y * l1(q) + (1 - y) * l0(q); pred holds probabilities, target labels in {0, 1}. */
 export function alertFocus(pred: ArrayLike<number>, target: ArrayLike<number>, options: LossOptions & { reduction: "none" }): Float64Array;
@@ -143,7 +143,7 @@ export function alertFocus(pred: ArrayLike<number>, target: ArrayLike<number>, o
   for (let i = 0; i < n; i++) {
     const q = pred[i]!;
     const y = target[i]!;
-    out[i] = y * (0.16666666666666666 * Math.pow(1 - q, 6) - 0.14285714285714285 * Math.pow(1 - q, 7)) + (1 - y) * (0.3333333333333333 * Math.pow(q, 3) - Math.pow(q, 4) + 1.2 * Math.pow(q, 5) - 0.6666666666666666 * Math.pow(q, 6) + 0.14285714285714285 * Math.pow(q, 7));
+    out[i] = y * (Math.pow(1 - q, 6) / 6 - Math.pow(1 - q, 7) / 7) + (1 - y) * (Math.pow(q, 3) / 3 - Math.pow(q, 4) + 6 * Math.pow(q, 5) / 5 - 2 * Math.pow(q, 6) / 3 + Math.pow(q, 7) / 7);
   }
   return reduce(out, options);
 }
@@ -156,7 +156,7 @@ export function alertFocusGrad(pred: ArrayLike<number>, target: ArrayLike<number
     const raw = pred[i]!;
     const q = raw;
     const y = target[i]!;
-    out[i] = y * (-(0.16666666666666666 * (6 * Math.pow(1 - q, 5))) + 0.14285714285714285 * (7 * Math.pow(1 - q, 6))) + (1 - y) * (0.3333333333333333 * (3 * Math.pow(q, 2)) - 4 * Math.pow(q, 3) + 1.2 * (5 * Math.pow(q, 4)) - 0.6666666666666666 * (6 * Math.pow(q, 5)) + 0.14285714285714285 * (7 * Math.pow(q, 6)));
+    out[i] = y * (-(6 * Math.pow(1 - q, 5) / 6) + 7 * Math.pow(1 - q, 6) / 7) + (1 - y) * (3 * Math.pow(q, 2) / 3 - 4 * Math.pow(q, 3) + 6 * (5 * Math.pow(q, 4)) / 5 - 2 * (6 * Math.pow(q, 5)) / 3 + 7 * Math.pow(q, 6) / 7);
   }
   return scaleGrad(out, options);
 }
