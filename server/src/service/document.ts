@@ -6,6 +6,7 @@
 import { analyseFamily, type AnalyseOptions, type LossAnalysis } from "../analysis/analyse.js";
 import type { ClauseKey, Finding } from "../analysis/loss-model.js";
 import { makeIssue, type Issue, type Span } from "../issue.js";
+import { recoveryMap, showBest } from "../semantics/derived.js";
 import { compileLoss, type CompiledLoss } from "../semantics/family.js";
 import { analyseSemantics, type ClauseName, type LossInfo, type SemanticModel } from "../semantics/model.js";
 import { parse, type ParseResult } from "../syntax/parse.js";
@@ -73,10 +74,32 @@ export function analyseDocument(text: string, options: DocumentOptions = {}): Do
       issues.push(makeIssue("internal-error", `internal error while analysing \`${info.name}\`: ${String(err)}`, info.decl.name.span));
       continue;
     }
-    for (const f of report.analysis.findings) issues.push(findingToIssue(f, info, model));
+    for (const f of report.analysis.findings) {
+      const issue = findingToIssue(f, info, model);
+      if (f.code === "posterior-recovery") addRecoveryFormula(issue, report.compiled);
+      issues.push(issue);
+    }
   }
   issues.sort((a, b) => a.span.start - b.span.start || a.span.end - b.span.end);
   return { text, parse: parsed, model, losses, issues };
+}
+
+/**
+ * Appends the closed-form posterior-recovery map η = l0'(q)/(l0'(q) − l1'(q)) (Reid & Williamson 2010,
+ * "Composite Binary Losses", JMLR 11, Cor. 12) to a posterior-recovery issue of a loss with partial
+ * losses in q, printed as the hover prints it, and puts it in the issue's data as `formula`.
+ */
+function addRecoveryFormula(issue: Issue, compiled: CompiledLoss): void {
+  try {
+    const l1 = compiled.forms.l1;
+    const l0 = compiled.forms.l0;
+    if (!l1?.d1 || !l0?.d1 || l1.variable !== "q" || l0.variable !== "q") return;
+    const formula = showBest(recoveryMap(l1.d1, l0.d1), "q");
+    issue.message = `${issue.message} Closed form: η = ${formula}`;
+    issue.data = { ...issue.data, formula };
+  } catch {
+    // The formula is an extra: on any failure the issue keeps the engine's message as it is.
+  }
 }
 
 /**
