@@ -318,7 +318,7 @@ function freeNames(e: Expr): Set<string> {
 }
 
 /** The value of an expression with every free name bound (NaN when it does not compile or evaluate). */
-function valueAt(e: Expr, slots: ReadonlyMap<string, number>, values: Float64Array): number {
+function evaluateAt(e: Expr, slots: ReadonlyMap<string, number>, values: Float64Array): number {
   try {
     return compileExpr(e, { variable: null, paramSlots: slots, defs: new Map() })(NaN, values);
   } catch {
@@ -334,8 +334,8 @@ function sameFunction(a: Expr, b: Expr): boolean {
   for (const x of CHECK_POINTS) {
     // The clause variables take the check point; any other name a fixed value away from 0 and 1.
     const values = Float64Array.from(vars, (n, i) => (n === "q" || n === "v" ? x : 1.3 + 0.17 * i));
-    const va = valueAt(a, slots, values);
-    const vb = valueAt(b, slots, values);
+    const va = evaluateAt(a, slots, values);
+    const vb = evaluateAt(b, slots, values);
     if (Number.isNaN(va) && Number.isNaN(vb)) continue;
     if (!Number.isFinite(va) || !Number.isFinite(vb)) {
       if (va !== vb) return false;
@@ -723,7 +723,7 @@ function integrateFromZero(t: Laurent, q: Expr): Expr {
   return sumExpr(signedTerms(terms, COEFF_REL_TOL * scale));
 }
 
-function explain(err: unknown): string {
+function explainFailure(err: unknown): string {
   if (err instanceof NotElementary) return err.message;
   return `internal error while integrating the weight: ${err instanceof Error ? err.message : String(err)}`;
 }
@@ -741,7 +741,7 @@ export function integrateWeight(w: Expr, x = "q"): WeightIntegral {
     const l0 = integrateFromZero(lMul(t, { c: [1], a: 1, b: 0 }), q);
     return { ok: true, l1, l0 };
   } catch (err) {
-    return { ok: false, reason: explain(err) };
+    return { ok: false, reason: explainFailure(err) };
   }
 }
 
@@ -751,7 +751,7 @@ const SIGN_GRID = Array.from({ length: 99 }, (_, i) => (i + 1) / 100);
 const WEIGHT_TOL = 1e-9;
 
 /** The weight read as P·x^a·(1−x)^b when it is non-negative on the sign grid (a proper loss), else null. */
-function nonNegativeWeight(w: Expr, x: string): Laurent | null {
+function readNonNegativeWeight(w: Expr, x: string): Laurent | null {
   let t: Laurent;
   try {
     t = toLaurent(simplify(w), x);
@@ -765,7 +765,7 @@ function nonNegativeWeight(w: Expr, x: string): Laurent | null {
   return t;
 }
 
-function printedIntegral(t: Laurent, target: "l1" | "l0", x: string): string | null {
+function printIntegral(t: Laurent, target: "l1" | "l0", x: string): string | null {
   try {
     const q = name(x);
     const e = target === "l1" ? integrateToOne(lMul(t, { c: [1], a: 0, b: 1 }), q) : integrateFromZero(lMul(t, { c: [1], a: 1, b: 0 }), q);
@@ -781,9 +781,9 @@ function printedIntegral(t: Laurent, target: "l1" | "l0", x: string): string | n
  * it cannot build.
  */
 export function partialsFromWeight(weight: Expr, q: string): { l1: string | null; l0: string | null } {
-  const t = nonNegativeWeight(weight, q);
+  const t = readNonNegativeWeight(weight, q);
   if (!t) return { l1: null, l0: null };
-  return { l1: printedIntegral(t, "l1", q), l0: printedIntegral(t, "l0", q) };
+  return { l1: printIntegral(t, "l1", q), l0: printIntegral(t, "l0", q) };
 }
 
 /**
@@ -795,6 +795,6 @@ export function partialsFromWeight(weight: Expr, q: string): { l1: string | null
 export function completePartial(given: "l1" | "l0", dGiven: Expr, q: string): string | null {
   const w = weightFromPartials(given === "l1" ? dGiven : null, given === "l0" ? dGiven : null, q);
   const weight = given === "l1" ? w.fromL1 : w.fromL0;
-  const t = weight ? nonNegativeWeight(weight, q) : null;
-  return t ? printedIntegral(t, given === "l1" ? "l0" : "l1", q) : null;
+  const t = weight ? readNonNegativeWeight(weight, q) : null;
+  return t ? printIntegral(t, given === "l1" ? "l0" : "l1", q) : null;
 }
