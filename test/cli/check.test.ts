@@ -342,3 +342,12 @@ describe("the repository's samples", () => {
     if (mistakes) expect(mistakes.diagnostics.map((d) => d.code)).toContain("unknown-name");
   });
 });
+
+describe("the version", () => {
+  // The CLI, the language server and the generated headers read one constant; it must match the package.
+  it("equals package.json's version", async () => {
+    const { VERSION } = await import("../../server/src/version.js");
+    const { readFileSync } = await import("node:fs");
+    expect(VERSION).toBe(JSON.parse(readFileSync("package.json", "utf8")).version);
+  });
+});

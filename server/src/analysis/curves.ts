@@ -41,7 +41,7 @@ function grid(a: number, b: number, points: number): number[] {
 }
 
 /** Samples g on xs; non-finite values become null and are counted in a note. */
-function series(id: string, label: string, xs: number[], g: RealFn, notes: string[]): Series {
+export function series(id: string, label: string, xs: number[], g: RealFn, notes: string[]): Series {
   let bad = 0;
   let firstBad = NaN;
   const y = xs.map((x) => {

@@ -11,7 +11,7 @@ import * as path from "node:path";
 import { parseArgs } from "node:util";
 import { generate, isTarget, TARGETS, type GenerateOptions } from "../codegen/index.js";
 import { analyseDocument } from "../service/document.js";
-import type { CliIo } from "./main.js";
+import { readSource, type CliIo } from "./io.js";
 
 export const GEN_HELP = `gen:
   propriety gen --target torch|jax|numpy|ts [--input prob|score] FILE [--loss NAME] [--out PATH]
@@ -96,13 +96,8 @@ export function runGen(args: string[], io: CliIo): number {
     if (positionals.length !== 1) throw new GenUsageError(positionals.length === 0 ? "gen needs one FILE" : "gen takes exactly one FILE");
     const file = positionals[0]!;
     const overrides = parseSets((values.set as string[] | undefined) ?? []);
-    let text: string;
-    try {
-      text = io.readFile(file);
-    } catch (err) {
-      io.stderr(`propriety: cannot read ${file}: ${err instanceof Error ? err.message : String(err)}\n`);
-      return 2;
-    }
+    const text = readSource(file, io);
+    if (text === null) return 2;
     const options: GenerateOptions = {
       target,
       input,

@@ -4,41 +4,20 @@
  * service. `main(argv, io)` runs in-process for tests and returns the exit code (0 ok, 1 errors found,
  * 2 usage or I/O error).
  */
-import * as fs from "node:fs";
-import * as path from "node:path";
 import { parseArgs } from "node:util";
-import { analyseDocument, type DocumentAnalysis } from "../service/document.js";
+import { loadDocuments, nodeIo, UsageError, type CliIo } from "./io.js";
 import { toJsonFile, toSarif, toTextLines } from "../service/check-report.js";
 import { runReport } from "./report.js";
 import { runGen } from "./gen.js";
 
-export const VERSION = "0.1.0";
+export { collectFiles, loadDocuments, nodeIo, readSource, UsageError, type CliIo } from "./io.js";
+
+import { VERSION } from "../version.js";
+
+export { VERSION };
 
 /** Sub-commands this build provides (the demo script reads this). */
 export const COMMANDS = ["check", "report", "gen"];
-
-export interface CliIo {
-  stdout(text: string): void;
-  stderr(text: string): void;
-  readFile(p: string): string;
-  writeFile(p: string, text: string): void;
-  isDirectory(p: string): boolean;
-  exists(p: string): boolean;
-  listDir(p: string): string[];
-}
-
-export const nodeIo: CliIo = {
-  stdout: (t) => process.stdout.write(t),
-  stderr: (t) => process.stderr.write(t),
-  readFile: (p) => fs.readFileSync(p, "utf8"),
-  writeFile: (p, t) => {
-    fs.mkdirSync(path.dirname(path.resolve(p)), { recursive: true });
-    fs.writeFileSync(p, t);
-  },
-  isDirectory: (p) => fs.statSync(p).isDirectory(),
-  exists: (p) => fs.existsSync(p),
-  listDir: (p) => fs.readdirSync(p),
-};
 
 const HELP = `propriety ${VERSION} — check classification losses written in the .loss notation
 
@@ -61,8 +40,6 @@ report:
   --png/--svg DIR also export each chart (needs Chromium: /usr/bin/chromium or $PROPRIETY_CHROMIUM).
   Exit status: 0 written, 2 usage, I/O or export error.
 `;
-
-export class UsageError extends Error {}
 
 export async function main(argv: string[], io: CliIo = nodeIo): Promise<number> {
   try {
@@ -95,25 +72,6 @@ export async function main(argv: string[], io: CliIo = nodeIo): Promise<number> 
   }
 }
 
-/** Expands the command-line paths: files as given, directories searched recursively for *.loss, sorted. */
-export function collectFiles(inputs: string[], io: CliIo): string[] {
-  const out: string[] = [];
-  const walk = (dir: string) => {
-    for (const name of io.listDir(dir).sort()) {
-      if (name === "node_modules" || name.startsWith(".")) continue;
-      const p = path.join(dir, name);
-      if (io.isDirectory(p)) walk(p);
-      else if (name.endsWith(".loss")) out.push(p);
-    }
-  };
-  for (const input of inputs) {
-    if (!io.exists(input)) throw new UsageError(`no such file or directory: ${input}`);
-    if (io.isDirectory(input)) walk(input);
-    else out.push(input);
-  }
-  return out;
-}
-
 function runCheck(args: string[], io: CliIo): number {
   const { values, positionals } = parseArgs({
     args,
@@ -126,19 +84,9 @@ function runCheck(args: string[], io: CliIo): number {
   }
   if (values.json && values.sarif) throw new UsageError("--json and --sarif cannot be combined");
   if (positionals.length === 0) throw new UsageError("check needs at least one FILE or DIR");
-  const files = collectFiles(positionals, io);
-  if (files.length === 0) throw new UsageError(`no .loss files found in ${positionals.join(", ")}`);
-  const docs: { file: string; doc: DocumentAnalysis }[] = [];
-  for (const file of files) {
-    let text: string;
-    try {
-      text = io.readFile(file);
-    } catch (err) {
-      io.stderr(`propriety: cannot read ${file}: ${err instanceof Error ? err.message : String(err)}\n`);
-      return 2;
-    }
-    docs.push({ file, doc: analyseDocument(text) });
-  }
+  const docs = loadDocuments(positionals, io);
+  if (docs === null) return 2;
+  const files = docs.map((d) => d.file);
   const hasErrors = docs.some(({ doc }) => doc.issues.some((i) => i.severity === "error"));
   if (values.json) {
     io.stdout(JSON.stringify({ files: docs.map(({ file, doc }) => toJsonFile(file, doc)) }, null, 2) + "\n");

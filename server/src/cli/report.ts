@@ -7,9 +7,9 @@ import * as fs from "node:fs";
 import * as path from "node:path";
 import { randomBytes } from "node:crypto";
 import { parseArgs } from "node:util";
-import { analyseDocument, type DocumentAnalysis } from "../service/document.js";
 import { renderReport } from "../service/report.js";
-import { collectFiles, UsageError, VERSION, type CliIo } from "./main.js";
+import { loadDocuments, UsageError, type CliIo } from "./io.js";
+import { VERSION } from "../version.js";
 
 /** Where the built page assets are looked for, and which Chromium to drive. */
 export interface ReportEnv {
@@ -74,19 +74,9 @@ export async function runReport(args: string[], io: CliIo, env: ReportEnv = {}):
   }
   if (positionals.length === 0) throw new UsageError("report needs at least one FILE or DIR");
   if (!values.out) throw new UsageError("report needs --out FILE.html");
-  const files = collectFiles(positionals, io);
-  if (files.length === 0) throw new UsageError(`no .loss files found in ${positionals.join(", ")}`);
-  const docs: { file: string; doc: DocumentAnalysis }[] = [];
-  for (const file of files) {
-    let text: string;
-    try {
-      text = io.readFile(file);
-    } catch (err) {
-      io.stderr(`propriety: cannot read ${file}: ${err instanceof Error ? err.message : String(err)}\n`);
-      return 2;
-    }
-    docs.push({ file, doc: analyseDocument(text) });
-  }
+  const docs = loadDocuments(positionals, io);
+  if (docs === null) return 2;
+  const files = docs.map((d) => d.file);
   let assets: { script: string; css: string };
   try {
     assets = readAssets(env, io);

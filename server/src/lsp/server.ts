@@ -3,6 +3,7 @@
  * (an exception becomes a log line and an empty answer), requests for unopened documents or positions
  * outside the document get an empty answer, and diagnostics come from the scheduler's two passes.
  */
+import { VERSION } from "../version.js";
 import {
   CodeLensRefreshRequest, DidChangeConfigurationNotification, ResponseError, ErrorCodes, SemanticTokensBuilder,
   TextDocumentSyncKind, TextDocuments, type ClientCapabilities, type Connection, type InitializeParams, type InitializeResult,
@@ -162,7 +163,7 @@ export function startServer(connection: Connection, host: ServerHost = {}): void
         documentFormattingProvider: true,
         experimental: { proprietyRequests: customs },
       },
-      serverInfo: { name: "propriety", version: "0.1.0" },
+      serverInfo: { name: "propriety", version: VERSION },
     };
   });
 

@@ -10,7 +10,7 @@
 import { analyseProperness } from "../analysis/properness.js";
 import { boundedUnitFn } from "../analysis/convex.js";
 import { analyseCurvature, type CurvatureResult } from "../analysis/curvature.js";
-import { sampleCurves, type CurveSet, type Series } from "../analysis/curves.js";
+import { sampleCurves, series, type CurveSet, type Series } from "../analysis/curves.js";
 import { deriveLossFunctions } from "../analysis/derive.js";
 import type { LossFamily, LossFunctions, LossSpec } from "../analysis/loss-model.js";
 import { fmt } from "../analysis/numeric.js";
@@ -269,38 +269,18 @@ function verdictText(v: LossCurves["verdict"]): string {
   return v === "strictly-proper" ? "strictly proper" : v === "proper" ? "proper (not strictly)" : v === "improper" ? "improper" : "verdict unknown";
 }
 
-/** Samples g on xs; non-finite values become null, counted in a note (as `sampleCurves` does). */
-function sampleSeries(id: string, label: string, xs: number[], g: (x: number) => number, notes: string[]): Series {
-  let bad = 0;
-  let firstBad = NaN;
-  const y = xs.map((x) => {
-    let v: number;
-    try {
-      v = g(x);
-    } catch {
-      v = NaN;
-    }
-    if (Number.isFinite(v)) return v;
-    if (bad === 0) firstBad = x;
-    bad++;
-    return null;
-  });
-  if (bad > 0) notes.push(`${label}: ${bad} sample${bad === 1 ? "" : "s"} not finite (shown as gaps), first at ${fmt(firstBad)}.`);
-  return { id, label, x: xs, y };
-}
-
 /** The curves of the loss itself (partials, H, link) without the curvature analysis, for improper losses. */
 function sampleLossCurves(fns: LossFunctions, points: number): CurveSet {
   const notes: string[] = [];
   const qs = gridOf(points);
   return {
-    partials: [sampleSeries("l1", "l1(q)", qs, fns.l1, notes), sampleSeries("l0", "l0(q)", qs, fns.l0, notes)],
+    partials: [series("l1", "l1(q)", qs, fns.l1, notes), series("l0", "l0(q)", qs, fns.l0, notes)],
     // Endpoint values of H by their limits, as the engine's sampler does.
-    bayes: sampleSeries("bayes", "H(q)", qs, boundedUnitFn(fns.bayes), notes),
+    bayes: series("bayes", "H(q)", qs, boundedUnitFn(fns.bayes), notes),
     weight: null,
     modulus: [],
     bounds: [],
-    link: fns.link ? sampleSeries("link", "ψ(q)", qs, fns.link, notes) : null,
+    link: fns.link ? series("link", "ψ(q)", qs, fns.link, notes) : null,
     notes,
   };
 }
