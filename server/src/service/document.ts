@@ -36,7 +36,8 @@ export interface DocumentOptions extends AnalyseOptions {
   cache?: Map<string, LossAnalysis>;
 }
 
-export function analyseDocument(text: string, options: DocumentOptions = {}): DocumentAnalysis {
+/** Parsing and name resolution, the stages every analysis starts with; a failure becomes one internal-error issue. */
+export function parseAndResolve(text: string): { parsed: ParseResult; model: SemanticModel; issues: Issue[] } {
   const parsed = parse(text);
   const issues: Issue[] = [...parsed.issues];
   let model: SemanticModel;
@@ -47,6 +48,11 @@ export function analyseDocument(text: string, options: DocumentOptions = {}): Do
     issues.push(makeIssue("internal-error", `internal error in name resolution: ${String(err)}`, { start: 0, end: Math.min(1, text.length) }));
   }
   issues.push(...model.issues);
+  return { parsed, model, issues };
+}
+
+export function analyseDocument(text: string, options: DocumentOptions = {}): DocumentAnalysis {
+  const { parsed, model, issues } = parseAndResolve(text);
   const losses: LossReport[] = [];
   const limit = options.maxAnalysedLosses ?? Infinity;
   for (const info of model.losses) {

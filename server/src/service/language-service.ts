@@ -11,9 +11,7 @@ import { analyseFamily, type AnalyseOptions, type LossAnalysis } from "../analys
 import type { Issue, Span } from "../issue.js";
 import { makeIssue } from "../issue.js";
 import { compileLoss } from "../semantics/family.js";
-import { analyseSemantics, type SemanticModel } from "../semantics/model.js";
-import { parse } from "../syntax/parse.js";
-import { analyseDocument, findingToIssue, lossCacheKey, type DocumentAnalysis, type LossReport } from "./document.js";
+import { analyseDocument, findingToIssue, lossCacheKey, parseAndResolve, type DocumentAnalysis, type LossReport } from "./document.js";
 import { computeCodeActions, type CodeAction } from "./code-actions.js";
 import { computeCodeLenses, computeLossSummary, type CodeLens, type LossSummary } from "./code-lens.js";
 import { computeCompletions, type CompletionItem } from "./completion.js";
@@ -238,16 +236,7 @@ function byPosition(a: Issue, b: Issue): number {
 /** Parse and name resolution, with the cached engine findings of unchanged losses (so they do not flicker while typing). */
 function buildFast(text: string, cache: ReadonlyMap<string, LossAnalysis>): DocumentAnalysis {
   return guarded(text, () => {
-    const parsed = parse(text);
-    const issues: Issue[] = [...parsed.issues];
-    let model: SemanticModel;
-    try {
-      model = analyseSemantics(parsed.ast);
-    } catch (err) {
-      model = { ast: parsed.ast, issues: [], globals: new Map(), defs: new Map(), losses: [], references: [] };
-      issues.push(makeIssue("internal-error", `internal error in name resolution: ${String(err)}`, { start: 0, end: Math.min(1, text.length) }));
-    }
-    issues.push(...model.issues);
+    const { parsed, model, issues } = parseAndResolve(text);
     const losses: LossReport[] = model.losses.map((info) => ({ info, compiled: null, analysis: null }));
     for (const r of losses) {
       if (!isAnalysable(r)) continue;
