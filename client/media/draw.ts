@@ -10,6 +10,7 @@
  */
 import { scaleLinear, scaleLog, type ContinuousScale } from "d3-scale";
 import type { LossCurves, SeriesData } from "../../server/src/protocol.js";
+import { escapeMarkup as escapeXml, formatFigure as formatNumber } from "../../server/src/display.js";
 
 /** Number of distinct series colours in viewer.css (classes c0…c7); losses beyond cycle with dashes. */
 export const COLOUR_COUNT = 8;
@@ -83,21 +84,8 @@ const LEGEND_CHAR_PX = 5.6;
 /** Pixel coordinates are clamped to this (an unbounded curve must not produce absurd path numbers). */
 const PIXEL_LIMIT = 1e5;
 
-/** Escapes text for XML/HTML element content and attribute values. */
-export function escapeXml(s: string): string {
-  return s.replace(/[&<>"']/g, (c) => ({ "&": "&amp;", "<": "&lt;", ">": "&gt;", '"': "&quot;", "'": "&#39;" })[c]!);
-}
-
-/** Short number formatting for labels and tables (display only). */
-export function formatNumber(x: number | null | undefined, digits = 4): string {
-  if (x === null || x === undefined || Number.isNaN(x)) return "—";
-  if (x === Infinity) return "∞";
-  if (x === -Infinity) return "−∞";
-  if (x === 0) return "0";
-  const a = Math.abs(x);
-  const s = a >= 1e-3 && a < 1e5 ? String(Number(x.toPrecision(digits))) : x.toExponential(Math.max(0, digits - 2)).replace("e+", "e");
-  return s.replace("-", "−");
-}
+/** Markup escaping and number formatting, shared with the server-side report (one implementation). */
+export { escapeMarkup as escapeXml, formatFigure as formatNumber } from "../../server/src/display.js";
 
 /** The index of the sampled η nearest to `eta` (ties to the lower one). */
 export function nearestEtaIndex(etas: number[], eta: number): number {

@@ -10,6 +10,7 @@
 import type { CurvesResult, LossCurves } from "../protocol.js";
 import { computeCurves } from "./curves.js";
 import type { DocumentAnalysis, LossReport } from "./document.js";
+import { escapeMarkup as escapeHtml, formatFigure } from "../display.js";
 
 export interface ReportOptions {
   /** Text of dist/report-page.js (the page script, drawing with client/media/draw.ts). */
@@ -39,21 +40,7 @@ export const REPORT_CAUTION =
 
 const DEFAULT_REPORT_ETA = 0.7;
 
-/** Escapes text for HTML element content and attribute values. */
-export function escapeHtml(s: string): string {
-  return s.replace(/[&<>"']/g, (c) => ({ "&": "&amp;", "<": "&lt;", ">": "&gt;", '"': "&quot;", "'": "&#39;" })[c]!);
-}
-
-/** Number formatting for the report's tables (4 significant digits, "—" for missing). */
-export function formatFigure(x: number | null | undefined, digits = 4): string {
-  if (x === null || x === undefined || Number.isNaN(x)) return "—";
-  if (x === Infinity) return "∞";
-  if (x === -Infinity) return "−∞";
-  if (x === 0) return "0";
-  const a = Math.abs(x);
-  const s = a >= 1e-3 && a < 1e5 ? String(Number(x.toPrecision(digits))) : x.toExponential(Math.max(0, digits - 2)).replace("e+", "e");
-  return s.replace("-", "−");
-}
+export { escapeMarkup as escapeHtml, formatFigure } from "../display.js";
 
 /** A 32-bit FNV-1a hash as 8 hex digits (for the deterministic default nonce). */
 function fnv1a(parts: string[]): string {
