@@ -3,7 +3,7 @@
  * `analyseCurvature` call plus one inverse per route), median over repeated runs.
  * Plain TypeScript with no I/O: a runner (e.g. a bundled script or a test) prints the figures.
  */
-import type { LossFunctions } from "../server/src/analysis/loss-model.js";
+import type { LossFunctions } from "../server/src/loss-model.js";
 import { analyseCurvature, cachedCurvatureModels } from "../server/src/analysis/curvature.js";
 import { modulusRouteBound } from "../server/src/analysis/bounds.js";
 

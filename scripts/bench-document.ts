@@ -5,7 +5,7 @@
  */
 import { readFileSync } from "node:fs";
 import { analyseCurvature } from "../server/src/analysis/curvature.js";
-import type { LossFamily } from "../server/src/analysis/loss-model.js";
+import type { LossFamily } from "../server/src/loss-model.js";
 import { analyseProperness } from "../server/src/analysis/properness.js";
 import { analyseDocument } from "../server/src/service/document.js";
 

@@ -3,7 +3,7 @@
  * of standard losses (every definition form), and for families with one and two parameter ranges.
  * Plain TypeScript (no test runner); the caller prints or records the figures.
  */
-import type { LossFamily } from "../server/src/analysis/loss-model.js";
+import type { LossFamily } from "../server/src/loss-model.js";
 import { analyseProperness } from "../server/src/analysis/properness.js";
 import {
   BOOSTING,

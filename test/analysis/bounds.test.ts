@@ -10,7 +10,7 @@ import { buildDirectBound, buildPsiTransform, modulusRouteBound } from "../../se
 import { boundedUnitFn } from "../../server/src/analysis/convex.js";
 import { buildModulusModel } from "../../server/src/analysis/modulus.js";
 import { analyseCurvature } from "../../server/src/analysis/curvature.js";
-import type { RealFn } from "../../server/src/analysis/loss-model.js";
+import type { RealFn } from "../../server/src/loss-model.js";
 import {
   boosting,
   brier,

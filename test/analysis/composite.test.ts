@@ -6,7 +6,7 @@ import { describe, expect, it } from "vitest";
 import { checkCompositeConvexity, checkEq17 } from "../../server/src/analysis/composite.js";
 import { deriveLossFunctions } from "../../server/src/analysis/derive.js";
 import { analyseProperness } from "../../server/src/analysis/properness.js";
-import type { LossSpec } from "../../server/src/analysis/loss-model.js";
+import type { LossSpec } from "../../server/src/loss-model.js";
 import { BOOSTING, HALF_LOGIT, LOG_NATS, familyOf, focal, partials, withLink } from "./standard-losses.js";
 
 const logit = (q: number) => Math.log(q / (1 - q));

@@ -4,7 +4,7 @@
  * representation l1 = H + (1−q)H', l0 = H − qH' (Bao 2023, COLT, Thm 1 eqs. (2)–(3); Reid & Williamson
  * 2010, "Composite Binary Losses", JMLR 11, Thm 4).
  */
-import type { LossFunctions, RealFn } from "../../server/src/analysis/loss-model.js";
+import type { LossFunctions, RealFn } from "../../server/src/loss-model.js";
 import { centralDiff } from "../../server/src/analysis/numeric.js";
 
 export interface FixtureInput {

@@ -13,7 +13,7 @@ import {
   scanMarginLink,
 } from "../../server/src/analysis/margin.js";
 import { nearlyEqual } from "../../server/src/analysis/numeric.js";
-import type { RealFn } from "../../server/src/analysis/loss-model.js";
+import type { RealFn } from "../../server/src/loss-model.js";
 import { MARGIN_EXP, MARGIN_HINGE, MARGIN_LOGISTIC, MARGIN_SQUARED, familyOf, margin } from "./standard-losses.js";
 
 const codesOf = (phi: RealFn, dphi?: RealFn) => analyseProperness(familyOf(margin("m", phi, dphi))).findings.map((f) => f.code);

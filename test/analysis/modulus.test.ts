@@ -6,7 +6,7 @@
 import { describe, expect, it } from "vitest";
 import { buildModulusModel, modulusOfConvexity } from "../../server/src/analysis/modulus.js";
 import { boundedUnitFn } from "../../server/src/analysis/convex.js";
-import type { RealFn } from "../../server/src/analysis/loss-model.js";
+import type { RealFn } from "../../server/src/loss-model.js";
 import {
   betaHalfHalf,
   betaTwoTwo,

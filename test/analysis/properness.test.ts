@@ -6,7 +6,7 @@
 import { describe, expect, it } from "vitest";
 import fc from "fast-check";
 import { analyseProperness, evaluateClaims, type PropernessResult } from "../../server/src/analysis/properness.js";
-import type { Claim, LossFamily, LossSpec } from "../../server/src/analysis/loss-model.js";
+import type { Claim, LossFamily, LossSpec } from "../../server/src/loss-model.js";
 import { ISSUE_CODES } from "../../server/src/issues.js";
 import { nearlyEqual } from "../../server/src/analysis/numeric.js";
 import { minimiseRisk } from "../../server/src/analysis/recovery.js";

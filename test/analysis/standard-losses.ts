@@ -3,7 +3,7 @@
  * proper-losses.md, plus composite and margin examples of §5), with the verdict their published sources
  * give. Reusable by other analysis tests: `familyOf(spec)` wraps a spec into a parameter-free family.
  */
-import type { Claim, LossFamily, LossSpec, RealFn } from "../../server/src/analysis/loss-model.js";
+import type { Claim, LossFamily, LossSpec, RealFn } from "../../server/src/loss-model.js";
 
 /** The expected verdict of a row, with the source it comes from. */
 export interface StandardLoss {

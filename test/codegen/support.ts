@@ -10,7 +10,7 @@ import * as path from "node:path";
 import { pathToFileURL } from "node:url";
 import { transform } from "esbuild";
 import { integrate, seededRandom } from "../../server/src/analysis/numeric.js";
-import type { LossSpec } from "../../server/src/analysis/loss-model.js";
+import type { LossSpec } from "../../server/src/loss-model.js";
 import { logit, sigmoid } from "../../server/src/semantics/builtins.js";
 import type { LossReport } from "../../server/src/service/document.js";
 

@@ -5,7 +5,7 @@
  * derivatives of every clause.
  */
 import { describe, expect, it } from "vitest";
-import type { LossSpec } from "../../server/src/analysis/loss-model.js";
+import type { LossSpec } from "../../server/src/loss-model.js";
 import { nearlyEqual, seededRandom } from "../../server/src/analysis/numeric.js";
 import { sigmoid } from "../../server/src/semantics/builtins.js";
 import { compileLoss, type CompiledLoss } from "../../server/src/semantics/family.js";

@@ -4,7 +4,7 @@
  * Pure: takes a `LossFamily`, returns figures and clause-attributed findings; never throws.
  */
 import { analyseCurvature, type CurvatureResult } from "./curvature.js";
-import type { Finding, LossFamily, LossFunctions } from "./loss-model.js";
+import type { Finding, LossFamily, LossFunctions } from "../loss-model.js";
 import { fmt } from "./numeric.js";
 import { analyseProperness, evaluateClaims, type PropernessResult } from "./properness.js";
 

@@ -8,7 +8,7 @@
  * - BJM's θ is the {0,1}-valued 0-1 regret: θ = 2α at c = ½.
  * - Surrogate regret is in the loss's own units (the units of H).
  */
-import type { RealFn } from "./loss-model.js";
+import type { RealFn } from "../loss-model.js";
 import { goldenMin } from "./numeric.js";
 import { fitPowerLawAtZero, LowerEnvelope, type PowerLaw } from "./convex.js";
 import type { ModulusModel } from "./modulus.js";

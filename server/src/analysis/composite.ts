@@ -5,7 +5,7 @@
  * composite partial losses are φ(v) and φ(−v) themselves, so convexity is that of φ; other cases
  * (improper or not strictly proper losses) fall back to second differences of λ_y(v) = l_y(ψ⁻¹(v)).
  */
-import type { Finding, LossFunctions, RealFn } from "./loss-model.js";
+import type { Finding, LossFunctions, RealFn } from "../loss-model.js";
 import { bisect, fmt, probabilityGrid } from "./numeric.js";
 import { diffInUnit } from "./numeric-extra.js";
 import { safeCall, scanConvexity } from "./margin.js";

@@ -5,7 +5,7 @@
  * Everything is a pure function of numbers (no I/O, no globals).
  */
 import { goldenMin } from "./numeric.js";
-import type { RealFn } from "./loss-model.js";
+import type { RealFn } from "../loss-model.js";
 
 /** Points tried, in order, for the limit of a function at 0 when f(0) itself is not finite (e.g. 0·ln 0 evaluated as NaN). */
 const LEFT_LIMIT_PROBES = [0, 1e-300, 1e-200, 1e-100, 1e-50, 1e-20, 1e-16];

@@ -12,7 +12,7 @@
  *   Thm 25, with min in place of the printed max; proper-losses.md §3) (the direct route).
  * - Bartlett, Jordan & McAuliffe 2006, "Convexity, Classification, and Risk Bounds", JASA 101 (ψ-transform).
  */
-import type { Finding, LossFunctions, RealFn } from "./loss-model.js";
+import type { Finding, LossFunctions, RealFn } from "../loss-model.js";
 import { fmt, goldenMin, probabilityGrid } from "./numeric.js";
 import { boundedUnitFn, fitPowerLawAtZero, shanksLimit, snapRational, type PowerLaw } from "./convex.js";
 import { buildModulusModel, ROUNDING_GAP_TOL, sampleUnitGrid, type ModulusModel, type SimonenkoRange, type UnitGrid } from "./modulus.js";

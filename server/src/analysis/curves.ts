@@ -3,7 +3,7 @@
  * decision regret as a function of surrogate regret by each route, and the link. Plain arrays only;
  * NaN and ±Infinity become null, with a note saying where.
  */
-import type { LossFunctions, RealFn } from "./loss-model.js";
+import type { LossFunctions, RealFn } from "../loss-model.js";
 import { fmt } from "./numeric.js";
 import { boundedUnitFn } from "./convex.js";
 import { buildModulusModel, sampleUnitGrid } from "./modulus.js";

@@ -4,7 +4,7 @@
  * functions and reports problems met while building them (divergent integrals, links that cannot be
  * inverted, declared inverses that disagree with the link).
  */
-import type { Finding, LossFunctions, LossSpec, RealFn } from "./loss-model.js";
+import type { Finding, LossFunctions, LossSpec, RealFn } from "../loss-model.js";
 import { fmt, globalMin, probabilityGrid } from "./numeric.js";
 import { diff2InUnit, diffInUnit, diffOnLine, invertMonotone, memoise, UnitIntegral } from "./numeric-extra.js";
 import {

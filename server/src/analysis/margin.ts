@@ -4,7 +4,7 @@
  * classification calibration (Bartlett, Jordan & McAuliffe 2006, "Convexity, Classification, and Risk
  * Bounds", JASA 101).
  */
-import type { Finding, RealFn } from "./loss-model.js";
+import type { Finding, RealFn } from "../loss-model.js";
 import { fmt, globalMin, linspace } from "./numeric.js";
 import { diffOnLine, invertMonotone } from "./numeric-extra.js";
 

@@ -11,7 +11,7 @@
  * half-width j/N give upper approximations of δ on ε_j = 2j/N and the basins of the minimising midpoint.
  * Exact values refine those basins by golden-section search with the real f.
  */
-import type { RealFn } from "./loss-model.js";
+import type { RealFn } from "../loss-model.js";
 import { goldenMin } from "./numeric.js";
 import { boundedUnitFn, fitPowerLawAtZero, LowerEnvelope, robustMin, type PowerLaw } from "./convex.js";
 

@@ -9,7 +9,7 @@
  * Bao 2023, "Proper Losses, Moduli of Convexity, and Surrogate Regret Bounds", COLT (§2): proper means
  * L(η, η) = inf_q L(η, q) for all η; strictly proper means q = η is the unique minimiser.
  */
-import type { Claim, Finding, LossFamily, LossFunctions, LossSpec, ParamRange, RealFn } from "./loss-model.js";
+import type { Claim, Finding, LossFamily, LossFunctions, LossSpec, ParamRange, RealFn } from "../loss-model.js";
 import { fmt, goldenMin, linspace, probabilityGrid, seededRandom } from "./numeric.js";
 import { deriveLossFunctions, internalError } from "./derive.js";
 import { computeRecovery, minimiseRisk, RECOVERY_ETAS, type RecoveryMap, type RiskTable } from "./recovery.js";

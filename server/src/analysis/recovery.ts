@@ -5,7 +5,7 @@
  * Chairatanakul & Sugiyama 2021, "On Focal Loss for Class-Posterior Probability Estimation: A
  * Theoretical Perspective", CVPR).
  */
-import type { LossFunctions, RealFn } from "./loss-model.js";
+import type { LossFunctions, RealFn } from "../loss-model.js";
 import { bisect, globalMin, goldenMin } from "./numeric.js";
 
 /** The recovery map and the evidence that it works on the sampled η. */

@@ -12,7 +12,7 @@
  * The Savage partials, the weight integral, the weight by stationarity and the posterior-recovery map are
  * the semantic layer's derivations (semantics/derived.ts), shared with hovers and quick fixes.
  */
-import type { DefinitionForm } from "../analysis/loss-model.js";
+import type { DefinitionForm } from "../loss-model.js";
 import type { LossAnalysis } from "../analysis/analyse.js";
 import { nearlyEqual } from "../analysis/numeric.js";
 import type { Expr } from "../syntax/ast.js";

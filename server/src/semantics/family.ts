@@ -3,7 +3,7 @@
  * differentiated symbolically, and compiled to closures over a parameter vector. The family instantiates
  * `LossSpec`s at any parameter values; the engine never sees text.
  */
-import type { Claim, LossFamily, LossSpec, ParamRange, RealFn } from "../analysis/loss-model.js";
+import type { Claim, LossFamily, LossSpec, ParamRange, RealFn } from "../loss-model.js";
 import { forEachExpr, type Expr } from "../syntax/ast.js";
 import { compileExpr, type Compiled } from "./compile.js";
 import type { ClauseName, LossInfo, SemanticModel } from "./model.js";

@@ -4,7 +4,7 @@
  * duplicates, parameter defaults and ranges, recursion among helpers, and `expect` claims.
  * Partial input is fine: every field of the AST may be missing and nothing here throws.
  */
-import type { Claim, DefinitionForm } from "../analysis/loss-model.js";
+import type { Claim, DefinitionForm } from "../loss-model.js";
 import { makeIssue, type Issue, type Span } from "../issue.js";
 import type { DefDecl, DefineClause, ExpectClause, Expr, FileNode, LossDecl, ParamDecl } from "../syntax/ast.js";
 import { forEachExpr } from "../syntax/ast.js";

@@ -12,7 +12,7 @@ import { boundedUnitFn } from "../analysis/convex.js";
 import { analyseCurvature, type CurvatureResult } from "../analysis/curvature.js";
 import { sampleCurves, series, type CurveSet, type Series } from "../analysis/curves.js";
 import { deriveLossFunctions } from "../analysis/derive.js";
-import type { LossFamily, LossFunctions, LossSpec } from "../analysis/loss-model.js";
+import type { LossFamily, LossFunctions, LossSpec } from "../loss-model.js";
 import { fmt } from "../analysis/numeric.js";
 import { minimiseRisk } from "../analysis/recovery.js";
 import type { CurvesParams, CurvesResult, LossCurves, LossFigures, SeriesData } from "../protocol.js";

@@ -4,7 +4,7 @@
  * becomes an `internal-error` issue on the item it was working on.
  */
 import { analyseFamily, type AnalyseOptions, type LossAnalysis } from "../analysis/analyse.js";
-import type { ClauseKey, Finding } from "../analysis/loss-model.js";
+import type { ClauseKey, Finding } from "../loss-model.js";
 import { makeIssue, type Issue, type Span } from "../issue.js";
 import { recoveryMap, showBest } from "../semantics/derived.js";
 import { compileLoss, type CompiledLoss } from "../semantics/family.js";

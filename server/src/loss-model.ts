@@ -5,8 +5,8 @@
  * (plain closures on numbers). The engine never sees text or positions: its findings name the clause
  * they are about (`ClauseKey`), and the service maps clauses back to source spans.
  */
-import type { IssueCode } from "../issues.js";
-import type { Severity } from "../issue.js";
+import type { IssueCode } from "./issues.js";
+import type { Severity } from "./issue.js";
 
 export type RealFn = (x: number) => number;
 
