@@ -47,7 +47,6 @@ export const ISSUE_CODES = {
 
   // Analysis (engine layer).
   "analysis-unknown": code("warning", "The engine could not decide a property; the message says why."),
-  "analysis-not-implemented": code("information", "This analysis is not available yet for this loss."),
   "improper": code("error", "The loss is not proper: some prediction q ≠ η has lower conditional risk than η."),
   "proper-not-strict": code("warning", "The loss is proper but not strictly: the Bayes risk is affine on an interval."),
   "improper-in-range": code("warning", "The loss is proper at the defaults but not over the whole declared parameter range."),
