@@ -229,6 +229,12 @@ export class UnitIntegral {
 export const DIVERGENCE_RATIO = 0.98;
 /** Decades resolved explicitly next to 0 (down to 10^-24 times the cell width). */
 export const ENDPOINT_DECADES_AT_ZERO = 12;
+/** Absolute target of one endpoint decade, relative to the decades already summed (double rounding of the sum itself is ~1e-16). */
+export const ENDPOINT_SUM_REL_TOL = 1e-14;
+/** Relative accuracy of the decade increments that measure the decay rate (a ratio to a few digits suffices). */
+export const ENDPOINT_DECAY_REL_TOL = 1e-6;
+/** Subinterval budget of a decay increment (smooth power laws converge in one or two panels). */
+export const ENDPOINT_DECAY_INTERVALS = 16;
 
 /**
  * ∫ g over a cell touching an endpoint of (0,1) ([0, b] or [a, 1]). The cell is split into decades of the
@@ -239,13 +245,23 @@ export const ENDPOINT_DECADES_AT_ZERO = 12;
  */
 export function endpointIntegral(integrand: (x: number) => number, a: number, b: number): { value: number; finite: boolean } {
   const g = endpointSafe(integrand);
-  const inc = (lo: number, hi: number) => integrate(g, lo, hi, 0, 1e-10, 200).value;
+  // Decades are summed from the largest down, so each needs accuracy only relative to the running total:
+  // next to 1 the integrand is rounding noise (1 − c keeps few digits) and a purely relative target on a
+  // 1e-60 increment would exhaust the subdivision budget for nothing.
+  // The scale of the integral: the decade just outside [a, b], on the interior side.
+  const outer = a === 0 ? [b, Math.min(0.5, 10 * b)] : [Math.max(0.5, 1 - 10 * (1 - a)), a];
+  const scale = outer[1]! > outer[0]! ? Math.abs(integrate(g, outer[0]!, outer[1]!, 0, ENDPOINT_DECAY_REL_TOL, ENDPOINT_DECAY_INTERVALS).value) : 0;
+  const floor = Number.isFinite(scale) ? ENDPOINT_SUM_REL_TOL * scale : 0;
+  const inc = (lo: number, hi: number, total: number) => integrate(g, lo, hi, Math.max(floor, ENDPOINT_SUM_REL_TOL * Math.abs(total)), 1e-10, 200).value;
+  // The decay measurement needs only the ratio of increments, to a few digits; next to 1 the integrand is
+  // rounding noise, which no subdivision removes, so the budget is small.
+  const decay = (lo: number, hi: number) => integrate(g, lo, hi, 0, ENDPOINT_DECAY_REL_TOL, ENDPOINT_DECAY_INTERVALS).value;
   // Signed decade increments ordered towards the endpoint; the last few measure the decay.
   const incs: number[] = [];
   let value = 0;
   if (a === 0) {
     for (let k = 0; k < ENDPOINT_DECADES_AT_ZERO; k++) {
-      const v = inc(b * Math.pow(10, -(k + 1)), b * Math.pow(10, -k));
+      const v = inc(b * Math.pow(10, -(k + 1)), b * Math.pow(10, -k), value);
       incs.push(v);
       value += v;
     }
@@ -253,9 +269,9 @@ export function endpointIntegral(integrand: (x: number) => number, a: number, b:
     const decades = Math.max(0, Math.round(Math.log10((1 - a) / 1e-15)));
     for (let k = 0; k < decades; k++) {
       const d = (1 - a) * Math.pow(10, -k);
-      value += inc(1 - d, 1 - d / 10);
+      value += inc(1 - d, 1 - d / 10, value);
     }
-    for (let k = 9; k < 15; k++) incs.push(inc(1 - Math.pow(10, -k), 1 - Math.pow(10, -(k + 1))));
+    for (let k = 9; k < 15; k++) incs.push(decay(1 - Math.pow(10, -k), 1 - Math.pow(10, -(k + 1))));
   }
   if (!Number.isFinite(value) || !incs.every(Number.isFinite)) return { value: NaN, finite: false };
   const last = incs[incs.length - 1]!;
