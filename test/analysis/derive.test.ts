@@ -141,6 +141,10 @@ describe("partials form", () => {
     // Canonical link ψ' = w (Reid & Williamson 2010, §6.1): log loss → logit, half-Brier (w = 1) → q − ½.
     ["log", LOG_NATS, logit],
     ["half-Brier", partials("hb", (q) => (1 - q) ** 2 / 2, (q) => q * q / 2, (q) => -(1 - q), (q) => q), (q: number) => q - 0.5],
+    // Boosting proper loss √((1−q)/q), √(q/(1−q)): canonical link (2q − 1)/√(q(1−q)) (Agarwal 2014, Table 1, "canonical exponential").
+    ["boosting", BOOSTING, (q: number) => (2 * q - 1) / Math.sqrt(q * (1 - q))],
+    // The same loss given by its weight function ½[q(1−q)]^{−3/2} (proper-losses.md §6 row 8).
+    ["boosting by weight", { name: "bw", form: "weight" as const, params: {}, threshold: 0.5, weight: (q: number) => 0.5 * (q * (1 - q)) ** -1.5 }, (q: number) => (2 * q - 1) / Math.sqrt(q * (1 - q))],
   ])("canonical link of %s", (_n, spec, expected) => {
     const f = fnsOf({ ...spec, canonicalLink: true });
     for (const q of [0.01, 0.2, 0.5, 0.7, 0.95]) expect(nearlyEqual(f.link!(q), expected(q), 1e-8, 1e-10)).toBe(true);

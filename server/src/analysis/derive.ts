@@ -142,6 +142,7 @@ function numericInverse(link: RealFn): RealFn {
 }
 
 /** Link parts for losses on probabilities: declared link (with derivative and inverse) or the canonical one (ψ' = w). */
+/** `canonicalFromBayes` is H' of the loss (declared, or l1 − l0 for partials), from which the canonical link follows exactly. */
 function probabilityLink(spec: LossSpec, weight: RealFn | null, canonicalFromBayes: RealFn | null, findings: Finding[], notes: string[]): LinkParts {
   if (spec.link) {
     const link = guard(spec.link)!;
@@ -153,7 +154,7 @@ function probabilityLink(spec: LossSpec, weight: RealFn | null, canonicalFromBay
   }
   if (spec.canonicalLink) {
     if (canonicalFromBayes) {
-      // For a Bayes-risk loss the canonical link is ψ(q) = H'(½) − H'(q), since ψ' = w = −H''.
+      // The canonical link is ψ(q) = H'(½) − H'(q), since ψ' = w = −H'' (Reid & Williamson 2010, §6.1).
       const dH = canonicalFromBayes;
       const h0 = dH(0.5);
       const link = (q: number) => h0 - dH(q);
@@ -217,7 +218,9 @@ function derivePartials(spec: LossSpec): DeriveResult {
   if (!spec.dl1 || !spec.dl0) notes.push("Derivatives of the partial losses are central differences (no closed form was given).");
   const weight = stationarityWeight(dl1, dl0);
   notes.push("H(η) = inf_q L(η, q) by a grid scan with golden refinement; equals L(η, η) when no lower value is found.");
-  const link = probabilityLink(spec, weight, null, findings, notes);
+  // For a proper loss H' = l1 − l0 (Savage form: l1 = H + (1−q)H', l0 = H − qH'), so the canonical link
+  // ψ = H'(½) − H' needs no quadrature; for an improper loss the canonical link has no meaning anyway.
+  const link = probabilityLink(spec, weight, (q) => l1(q) - l0(q), findings, notes);
   return { fns: assemble(spec, { l1, l0, dl1, dl0, weight, weightExact: !!(spec.dl1 && spec.dl0), link, notes }), findings };
 }
 
@@ -292,7 +295,8 @@ function deriveWeight(spec: LossSpec): DeriveResult {
   // With w ≥ 0 the loss is proper by construction (RW10 Thm 6), so H(η) = L(η, η); otherwise the infimum is searched.
   const bayes = negative ? numericBayes(risk) : (eta: number) => risk(eta, eta);
   notes.push("Partial losses by the integral representation l1(q) = ∫_q^1 (1−c)w(c)dc, l0(q) = ∫_0^q c·w(c)dc, tabulated with local Gauss–Kronrod completion.");
-  const link = probabilityLink(spec, w, null, findings, notes);
+  // H' = l1 − l0 here too (the partials are tabulated), which gives the canonical link without another table.
+  const link = probabilityLink(spec, w, (q) => l1(q) - l0(q), findings, notes);
   return { fns: assemble(spec, { l1, l0, dl1, dl0, bayes, weight: w, weightExact: true, link, notes }), findings };
 }
 
