@@ -14,12 +14,15 @@ function median(xs: number[]): number {
   return s[Math.floor(s.length / 2)]!;
 }
 
+/** Warm-up runs before timing (the compiled closures and the engine are JIT-compiled on first use). */
+const WARM_UP = 5;
+
 function timeIt(runs: number, f: () => void): number {
   const times: number[] = [];
-  for (let i = 0; i < runs + 2; i++) {
+  for (let i = 0; i < runs + WARM_UP; i++) {
     const t0 = performance.now();
     f();
-    if (i >= 2) times.push(performance.now() - t0);
+    if (i >= WARM_UP) times.push(performance.now() - t0);
   }
   return median(times);
 }
@@ -29,7 +32,7 @@ function pinned(family: LossFamily): LossFamily {
   return { ...family, params: family.params.map((p) => ({ name: p.name, default: p.default })) };
 }
 
-export async function benchDocument(runs = 9): Promise<{ name: string; medianMs: number; target?: string }[]> {
+export async function benchDocument(runs = 15): Promise<{ name: string; medianMs: number; target?: string }[]> {
   const rows: { name: string; medianMs: number; target?: string }[] = [];
   for (const file of ["samples/flood-desk.loss", "samples/forms.loss"]) {
     const text = readFileSync(file, "utf8");
