@@ -2,6 +2,7 @@
  * The headless report shapes of `propriety check`: text lines, the JSON object of the notation contract,
  * and SARIF 2.1.0 for code-scanning tools. Pure: takes analyses, returns strings/objects.
  */
+import type { LossAnalysis } from "../analysis/analyse.js";
 import { ISSUE_CODES } from "../issues.js";
 import type { Issue, Severity } from "../issue.js";
 import type { DocumentAnalysis } from "./document.js";
@@ -12,17 +13,11 @@ export interface JsonRange {
   end: { line: number; character: number };
 }
 
-export interface JsonLoss {
-  name: string;
-  params: Record<string, number>;
-  verdict: "strictly-proper" | "proper" | "improper" | "unknown";
-  counterexample: { eta: number; q: number; riskAtEta: number; riskAtQ: number } | null;
-  flatInterval: [number, number] | null;
-  lambda: number | null;
-  modulus: { coefficient: number; power: number } | null;
-  exponents: { viaModulus: number | null; direct: number | null };
-  threshold: number;
-}
+/** One loss in `check --json`: the contract's fields, typed from the engine's result so the two cannot drift. */
+export type JsonLoss = { name: string } & Pick<
+  LossAnalysis,
+  "params" | "verdict" | "counterexample" | "flatInterval" | "lambda" | "modulus" | "exponents" | "threshold"
+>;
 
 export interface JsonFile {
   file: string;
