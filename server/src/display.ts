@@ -18,3 +18,14 @@ export function formatFigure(x: number | null | undefined, digits = 4): string {
   const s = a >= 1e-3 && a < 1e5 ? String(Number(x.toPrecision(digits))) : x.toExponential(Math.max(0, digits - 2)).replace("e+", "e");
   return s.replace("-", "−");
 }
+
+/** Formats a number for messages: short, never "NaN" without saying so. */
+export function fmt(x: number, digits = 6): string {
+  if (Number.isNaN(x)) return "undefined (NaN)";
+  if (x === Infinity) return "∞";
+  if (x === -Infinity) return "−∞";
+  if (x === 0) return "0";
+  const a = Math.abs(x);
+  if (a >= 1e-4 && a < 1e6) return String(Number(x.toPrecision(digits)));
+  return x.toExponential(Math.max(0, digits - 1)).replace("e+", "e");
+}

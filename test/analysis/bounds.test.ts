@@ -7,7 +7,7 @@
  */
 import { describe, expect, it } from "vitest";
 import { buildDirectBound, buildPsiTransform, modulusRouteBound } from "../../server/src/analysis/bounds.js";
-import { boundedUnitFn } from "../../server/src/analysis/convex.js";
+import { boundedUnitFn } from "../../server/src/analysis/numeric/limits.js";
 import { buildModulusModel } from "../../server/src/analysis/modulus.js";
 import { analyseCurvature } from "../../server/src/analysis/curvature.js";
 import type { RealFn } from "../../server/src/loss-model.js";

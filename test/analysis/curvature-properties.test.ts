@@ -8,7 +8,7 @@ import { describe, expect, it } from "vitest";
 import fc from "fast-check";
 import { modulusOfConvexity, buildModulusModel } from "../../server/src/analysis/modulus.js";
 import { buildDirectBound } from "../../server/src/analysis/bounds.js";
-import { boundedUnitFn } from "../../server/src/analysis/convex.js";
+import { boundedUnitFn } from "../../server/src/analysis/numeric/limits.js";
 import { analyseCurvature } from "../../server/src/analysis/curvature.js";
 import { fromBayes, STRICTLY_PROPER_TABLE, type FixtureInput } from "./curvature-table.js";
 

@@ -5,7 +5,7 @@
  * 2010, "Composite Binary Losses", JMLR 11, Thm 4).
  */
 import type { LossFunctions, RealFn } from "../../server/src/loss-model.js";
-import { centralDiff } from "../../server/src/analysis/numeric.js";
+import { centralDiff } from "../../server/src/analysis/numeric/differences.js";
 
 export interface FixtureInput {
   bayes: RealFn;

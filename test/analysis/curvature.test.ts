@@ -6,7 +6,7 @@
 import { describe, expect, it } from "vitest";
 import { analyseCurvature, formatExponent } from "../../server/src/analysis/curvature.js";
 import { sampleCurves } from "../../server/src/analysis/curves.js";
-import { nearlyEqual } from "../../server/src/analysis/numeric.js";
+import { nearlyEqual } from "../../server/src/analysis/numeric/tolerance.js";
 import {
   ag14Squared,
   betaHalfHalf,

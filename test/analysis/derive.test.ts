@@ -5,7 +5,7 @@
 import { describe, expect, it } from "vitest";
 import { deriveLossFunctions } from "../../server/src/analysis/derive.js";
 import type { LossSpec } from "../../server/src/loss-model.js";
-import { nearlyEqual } from "../../server/src/analysis/numeric.js";
+import { nearlyEqual } from "../../server/src/analysis/numeric/tolerance.js";
 import {
   BOOSTING,
   LOG_NATS,

@@ -12,7 +12,7 @@ import {
   scanConvexity,
   scanMarginLink,
 } from "../../server/src/analysis/margin.js";
-import { nearlyEqual } from "../../server/src/analysis/numeric.js";
+import { nearlyEqual } from "../../server/src/analysis/numeric/tolerance.js";
 import type { RealFn } from "../../server/src/loss-model.js";
 import { MARGIN_EXP, MARGIN_HINGE, MARGIN_LOGISTIC, MARGIN_SQUARED, familyOf, margin } from "./standard-losses.js";
 

@@ -5,7 +5,7 @@
  */
 import { describe, expect, it } from "vitest";
 import { buildModulusModel, modulusOfConvexity } from "../../server/src/analysis/modulus.js";
-import { boundedUnitFn } from "../../server/src/analysis/convex.js";
+import { boundedUnitFn } from "../../server/src/analysis/numeric/limits.js";
 import type { RealFn } from "../../server/src/loss-model.js";
 import {
   betaHalfHalf,

@@ -8,7 +8,7 @@ import fc from "fast-check";
 import { analyseProperness, evaluateClaims, type PropernessResult } from "../../server/src/analysis/properness.js";
 import type { Claim, LossFamily, LossSpec } from "../../server/src/loss-model.js";
 import { ISSUE_CODES } from "../../server/src/issues.js";
-import { nearlyEqual } from "../../server/src/analysis/numeric.js";
+import { nearlyEqual } from "../../server/src/analysis/numeric/tolerance.js";
 import { minimiseRisk } from "../../server/src/analysis/recovery.js";
 import {
   BOOSTING,

@@ -7,7 +7,7 @@
 import * as fs from "node:fs";
 import * as path from "node:path";
 import { describe, expect, it } from "vitest";
-import { nearlyEqual } from "../../server/src/analysis/numeric.js";
+import { nearlyEqual } from "../../server/src/analysis/numeric/tolerance.js";
 import { generate } from "../../server/src/codegen/index.js";
 import { sanitiseName, tsFunctionName } from "../../server/src/codegen/names.js";
 import { analyseDocument, type DocumentAnalysis } from "../../server/src/service/document.js";

@@ -3,7 +3,7 @@
  * sanitising, the lowering's refusals and header facts, and `generate`'s error results.
  */
 import { describe, expect, it } from "vitest";
-import { nearlyEqual } from "../../server/src/analysis/numeric.js";
+import { nearlyEqual } from "../../server/src/analysis/numeric/tolerance.js";
 import { generate } from "../../server/src/codegen/index.js";
 import { CLAMP_EPS, lowerLoss } from "../../server/src/codegen/model.js";
 import { sanitiseName, tsFunctionName } from "../../server/src/codegen/names.js";

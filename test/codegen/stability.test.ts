@@ -6,7 +6,7 @@
 import * as fs from "node:fs";
 import * as path from "node:path";
 import { describe, expect, it } from "vitest";
-import { nearlyEqual } from "../../server/src/analysis/numeric.js";
+import { nearlyEqual } from "../../server/src/analysis/numeric/tolerance.js";
 import { generate, type GenerateOptions } from "../../server/src/codegen/index.js";
 import { CLAMP_EPS } from "../../server/src/codegen/model.js";
 import { normcdf as normcdfRef, sigmoid, softplus } from "../../server/src/semantics/builtins.js";

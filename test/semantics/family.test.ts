@@ -6,7 +6,8 @@
  */
 import { describe, expect, it } from "vitest";
 import type { LossSpec } from "../../server/src/loss-model.js";
-import { nearlyEqual, seededRandom } from "../../server/src/analysis/numeric.js";
+import { nearlyEqual } from "../../server/src/analysis/numeric/tolerance.js";
+import { seededRandom } from "../../server/src/analysis/numeric/sampling.js";
 import { sigmoid } from "../../server/src/semantics/builtins.js";
 import { compileLoss, type CompiledLoss } from "../../server/src/semantics/family.js";
 import { analyseSemantics } from "../../server/src/semantics/model.js";

@@ -6,7 +6,8 @@
  */
 import { compile as mathCompile, derivative as mathDerivative } from "mathjs";
 import { describe, expect, it } from "vitest";
-import { nearlyEqual, seededRandom } from "../../server/src/analysis/numeric.js";
+import { nearlyEqual } from "../../server/src/analysis/numeric/tolerance.js";
+import { seededRandom } from "../../server/src/analysis/numeric/sampling.js";
 import { BUILTINS } from "../../server/src/semantics/builtins.js";
 import { compileExpr, type CompileScope } from "../../server/src/semantics/compile.js";
 import { helperBodies } from "../../server/src/semantics/family.js";

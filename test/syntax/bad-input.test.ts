@@ -8,7 +8,7 @@ import { forEachExpr, type Expr, type FileNode } from "../../server/src/syntax/a
 import { formatDocument } from "../../server/src/syntax/format.js";
 import { parse } from "../../server/src/syntax/parse.js";
 import type { Span } from "../../server/src/issue.js";
-import { seededRandom } from "../../server/src/analysis/numeric.js";
+import { seededRandom } from "../../server/src/analysis/numeric/sampling.js";
 
 function checkSpan(s: Span, length: number, what: string): void {
   if (!(Number.isInteger(s.start) && Number.isInteger(s.end) && 0 <= s.start && s.start <= s.end && s.end <= length)) {

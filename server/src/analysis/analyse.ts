@@ -5,7 +5,7 @@
  */
 import { analyseCurvature, type CurvatureResult } from "./curvature.js";
 import type { Finding, LossFamily, LossFunctions } from "../loss-model.js";
-import { fmt } from "./numeric.js";
+import { fmt } from "../display.js";
 import { analyseProperness, evaluateClaims, type PropernessResult } from "./properness.js";
 
 export type Verdict = "strictly-proper" | "proper" | "improper" | "unknown";

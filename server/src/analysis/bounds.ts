@@ -9,8 +9,9 @@
  * - Surrogate regret is in the loss's own units (the units of H).
  */
 import type { RealFn } from "../loss-model.js";
-import { goldenMin } from "./numeric.js";
-import { fitPowerLawAtZero, LowerEnvelope, type PowerLaw } from "./convex.js";
+import { goldenMin } from "./numeric/minimise.js";
+import { fitPowerLawAtZero, type PowerLaw } from "./numeric/fits.js";
+import { LowerEnvelope } from "./numeric/envelope.js";
 import type { ModulusModel } from "./modulus.js";
 
 /** Samples on [0, α_max] for the convex hull of the direct bound. */

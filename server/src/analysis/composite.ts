@@ -6,8 +6,10 @@
  * (improper or not strictly proper losses) fall back to second differences of λ_y(v) = l_y(ψ⁻¹(v)).
  */
 import type { Finding, LossFunctions, RealFn } from "../loss-model.js";
-import { bisect, fmt, probabilityGrid } from "./numeric.js";
-import { diffInUnit } from "./numeric-extra.js";
+import { bisect } from "./numeric/roots.js";
+import { fmt } from "../display.js";
+import { probabilityGrid } from "./numeric/sampling.js";
+import { diffInUnit } from "./numeric/differences.js";
 import { safeCall, scanConvexity } from "./margin.js";
 
 /** Relative slack on the eq. (17) bounds: w' and ψ'' are central differences of closed forms (error ~1e-9), so 1e-6 is far above noise. */

@@ -13,8 +13,12 @@
  * - Bartlett, Jordan & McAuliffe 2006, "Convexity, Classification, and Risk Bounds", JASA 101 (ψ-transform).
  */
 import type { Finding, LossFunctions, RealFn } from "../loss-model.js";
-import { fmt, goldenMin, probabilityGrid } from "./numeric.js";
-import { boundedUnitFn, fitPowerLawAtZero, shanksLimit, snapRational, type PowerLaw } from "./convex.js";
+import { fmt } from "../display.js";
+import { goldenMin } from "./numeric/minimise.js";
+import { probabilityGrid } from "./numeric/sampling.js";
+import { boundedUnitFn } from "./numeric/limits.js";
+import { fitPowerLawAtZero, type PowerLaw, snapRational } from "./numeric/fits.js";
+import { shanksLimit } from "./numeric/extrapolation.js";
 import { buildModulusModel, ROUNDING_GAP_TOL, sampleUnitGrid, type ModulusModel, type SimonenkoRange, type UnitGrid } from "./modulus.js";
 import { buildDirectBound, buildPsiTransform, modulusRouteBound, type DirectBoundModel, type PsiTransformModel } from "./bounds.js";
 

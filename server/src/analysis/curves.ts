@@ -4,8 +4,8 @@
  * NaN and ±Infinity become null, with a note saying where.
  */
 import type { LossFunctions, RealFn } from "../loss-model.js";
-import { fmt } from "./numeric.js";
-import { boundedUnitFn } from "./convex.js";
+import { fmt } from "../display.js";
+import { boundedUnitFn } from "./numeric/limits.js";
 import { buildModulusModel, sampleUnitGrid } from "./modulus.js";
 import { buildDirectBound, buildPsiTransform } from "./bounds.js";
 import { cachedCurvatureModels, numericWeight, savageSlope, type CurvatureModels, type CurvatureResult } from "./curvature.js";

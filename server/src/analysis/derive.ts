@@ -5,8 +5,13 @@
  * inverted, declared inverses that disagree with the link).
  */
 import type { Finding, LossFunctions, LossSpec, RealFn } from "../loss-model.js";
-import { fmt, globalMin, probabilityGrid } from "./numeric.js";
-import { diff2InUnit, diffInUnit, diffOnLine, invertMonotone, memoise, UnitIntegral } from "./numeric-extra.js";
+import { fmt } from "../display.js";
+import { globalMin } from "./numeric/minimise.js";
+import { probabilityGrid } from "./numeric/sampling.js";
+import { diff2InUnit, diffInUnit, diffOnLine } from "./numeric/differences.js";
+import { invertMonotone } from "./numeric/roots.js";
+import { memoise } from "./numeric/memo.js";
+import { UnitIntegral } from "./numeric/unit-integral.js";
 import {
   impliedInverseLink,
   marginBayes,

@@ -5,8 +5,11 @@
  * Bounds", JASA 101).
  */
 import type { Finding, RealFn } from "../loss-model.js";
-import { fmt, globalMin, linspace } from "./numeric.js";
-import { diffOnLine, invertMonotone } from "./numeric-extra.js";
+import { fmt } from "../display.js";
+import { globalMin } from "./numeric/minimise.js";
+import { linspace } from "./numeric/sampling.js";
+import { diffOnLine } from "./numeric/differences.js";
+import { invertMonotone } from "./numeric/roots.js";
 
 /** Scores are searched in [−50, 50]: wide enough for every link saturating in doubles (σ(2·50) = 1), small enough that exp(±v) stays finite. */
 export const MARGIN_SCORE_BOUND = 50;

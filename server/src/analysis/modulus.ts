@@ -12,8 +12,10 @@
  * Exact values refine those basins by golden-section search with the real f.
  */
 import type { RealFn } from "../loss-model.js";
-import { goldenMin } from "./numeric.js";
-import { boundedUnitFn, fitPowerLawAtZero, LowerEnvelope, robustMin, type PowerLaw } from "./convex.js";
+import { goldenMin, robustMin } from "./numeric/minimise.js";
+import { boundedUnitFn } from "./numeric/limits.js";
+import { fitPowerLawAtZero, type PowerLaw } from "./numeric/fits.js";
+import { LowerEnvelope } from "./numeric/envelope.js";
 
 /** Default number of grid cells on [0,1] (N). 512 keeps the O(N²/4) grid scan well under 1 ms; exact values come from refinement, not from the grid. */
 export const MODULUS_GRID = 512;

@@ -10,12 +10,14 @@
  * L(η, η) = inf_q L(η, q) for all η; strictly proper means q = η is the unique minimiser.
  */
 import type { Claim, Finding, LossFamily, LossFunctions, LossSpec, ParamRange, RealFn } from "../loss-model.js";
-import { fmt, goldenMin, linspace, probabilityGrid, seededRandom } from "./numeric.js";
+import { fmt } from "../display.js";
+import { goldenMin } from "./numeric/minimise.js";
+import { linspace, probabilityGrid, seededRandom } from "./numeric/sampling.js";
 import { deriveLossFunctions, internalError } from "./derive.js";
 import { computeRecovery, minimiseRisk, RECOVERY_ETAS, type RecoveryMap, type RiskTable } from "./recovery.js";
 import { checkCompositeConvexity, checkMarginConvexity } from "./composite.js";
 import { checkMarginCalibration, marginDerivative, safeCall } from "./margin.js";
-import { diffInUnit } from "./numeric-extra.js";
+import { diffInUnit } from "./numeric/differences.js";
 
 /** Re-exported so callers of `analyseProperness` get the type of `PropernessResult.recovery` from one module. */
 export type { RecoveryMap } from "./recovery.js";

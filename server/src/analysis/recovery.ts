@@ -6,7 +6,8 @@
  * Theoretical Perspective", CVPR).
  */
 import type { LossFunctions, RealFn } from "../loss-model.js";
-import { bisect, globalMin, goldenMin } from "./numeric.js";
+import { bisect } from "./numeric/roots.js";
+import { globalMin, goldenMin } from "./numeric/minimise.js";
 
 /** The recovery map and the evidence that it works on the sampled η. */
 export interface RecoveryMap {

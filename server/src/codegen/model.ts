@@ -14,7 +14,7 @@
  */
 import type { DefinitionForm } from "../loss-model.js";
 import type { LossAnalysis } from "../analysis/analyse.js";
-import { nearlyEqual } from "../analysis/numeric.js";
+import { nearlyEqual } from "../analysis/numeric/tolerance.js";
 import type { Expr } from "../syntax/ast.js";
 import { compileExpr } from "../semantics/compile.js";
 import type { LossReport } from "../service/document.js";

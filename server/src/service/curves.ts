@@ -8,12 +8,12 @@
  * and every non-finite sample becomes a null gap with a note.
  */
 import { analyseProperness } from "../analysis/properness.js";
-import { boundedUnitFn } from "../analysis/convex.js";
+import { boundedUnitFn } from "../analysis/numeric/limits.js";
 import { analyseCurvature, type CurvatureResult } from "../analysis/curvature.js";
 import { sampleCurves, series, type CurveSet, type Series } from "../analysis/curves.js";
 import { deriveLossFunctions } from "../analysis/derive.js";
 import type { LossFamily, LossFunctions, LossSpec } from "../loss-model.js";
-import { fmt } from "../analysis/numeric.js";
+import { fmt } from "../display.js";
 import { minimiseRisk } from "../analysis/recovery.js";
 import type { CurvesParams, CurvesResult, LossCurves, LossFigures, SeriesData } from "../protocol.js";
 import { lossCacheKey, type DocumentAnalysis, type LossReport } from "./document.js";

@@ -1,84 +1,9 @@
 /**
- * Numeric primitives used by the properness engine on top of `numeric.ts`: finite differences that stay
- * inside (0,1), memoisation of expensive closures, tabulated integrals on (0,1) that tolerate integrable
- * endpoint singularities, and a monotone inverse by bisection. Everything is a pure function of numbers.
+ * Integrals over (0,1) that tolerate integrable endpoint singularities: `endpointSafe` integrands, the
+ * decade-by-decade `endpointIntegral` with divergence detection, and the tabulated `UnitIntegral`.
  */
-import { bisect, integrate } from "./numeric.js";
-
-/**
- * Step of the five-point first difference away from the endpoints: truncation ~h⁴·f⁽⁵⁾/30 and rounding
- * ~eps·|f|/h balance near h ≈ eps^{1/5} ≈ 1e-3; 2e-4 keeps truncation below 1e-14 for O(1) derivatives.
- */
-export const DIFF_STEP = 2e-4;
-/**
- * Fraction of the distance d to the nearest endpoint used as the step there (the stencil reaches 2h = d/25,
- * staying inside (0,1)); truncation is then ~(h/d)⁴ ≈ 2e-7 (times the derivative's growth constant) for functions singular at the endpoint.
- */
-export const DIFF_ENDPOINT_FRACTION = 0.02;
-/** Step of the five-point second difference (rounding grows like eps/h², so it is larger than for first differences). */
-export const DIFF2_STEP = 1e-3;
-
-/** First derivative of f at x ∈ (0,1) by a five-point central difference whose stencil never leaves (0,1); NaN at or outside the endpoints. */
-export function diffInUnit(f: (x: number) => number, x: number): number {
-  const d = Math.min(x, 1 - x);
-  if (!(d > 0)) return NaN;
-  const h = Math.min(DIFF_STEP, d * DIFF_ENDPOINT_FRACTION);
-  return (f(x - 2 * h) - 8 * f(x - h) + 8 * f(x + h) - f(x + 2 * h)) / (12 * h);
-}
-
-/** Second derivative of f at x ∈ (0,1) by a five-point central second difference staying inside (0,1). */
-export function diff2InUnit(f: (x: number) => number, x: number): number {
-  const d = Math.min(x, 1 - x);
-  if (!(d > 0)) return NaN;
-  const h = Math.min(DIFF2_STEP, d * DIFF_ENDPOINT_FRACTION);
-  return (-f(x - 2 * h) + 16 * f(x - h) - 30 * f(x) + 16 * f(x + h) - f(x + 2 * h)) / (12 * h * h);
-}
-
-/** Step of first differences on the score line (truncation ~h², rounding ~eps/h balance near 1e-6 for O(1) scales; second differences use LINE_STEP2 since rounding grows like eps/h²). */
-export const LINE_STEP = 1e-6;
-/** Step of second differences on the score line. */
-export const LINE_STEP2 = 1e-4;
-
-/** First derivative of f at a real x (score scale), step relative to |x|. */
-export function diffOnLine(f: (x: number) => number, x: number): number {
-  const h = LINE_STEP * Math.max(1, Math.abs(x));
-  return (f(x + h) - f(x - h)) / (2 * h);
-}
-
-/** Second derivative of f at a real x (score scale). */
-export function diff2OnLine(f: (x: number) => number, x: number): number {
-  const h = LINE_STEP2 * Math.max(1, Math.abs(x));
-  return (f(x + h) - 2 * f(x) + f(x - h)) / (h * h);
-}
-
-/** Bound on the number of cached values per memoised closure, so long sessions cannot grow memory without limit. */
-export const MEMO_LIMIT = 20000;
-
-/** Memoises a real function of one variable (exact-argument cache, cleared when full). */
-export function memoise(f: (x: number) => number): (x: number) => number {
-  let cache = new Map<number, number>();
-  return (x: number) => {
-    const hit = cache.get(x);
-    if (hit !== undefined) return hit;
-    const y = f(x);
-    if (cache.size >= MEMO_LIMIT) cache = new Map();
-    cache.set(x, y);
-    return y;
-  };
-}
-
-/**
- * Nodes on (0,1) for tabulation: geometric towards both endpoints (down to 1e-12 from each end) and
- * uniform in the middle, so integrands singular at an endpoint are resolved cell by cell.
- */
-export function tabulationNodes(): number[] {
-  const pts: number[] = [];
-  // Quarter-decade steps from 1e-12 up to 1e-2 resolve power-law endpoint behaviour.
-  for (let k = 48; k > 8; k--) pts.push(Math.pow(10, -k / 4));
-  for (let i = 1; i < 100; i++) pts.push(i / 100);
-  for (let k = 9; k <= 48; k++) pts.push(1 - Math.pow(10, -k / 4));
-  return [...new Set(pts)].sort((a, b) => a - b);
-}
+import { integrate } from "./quadrature.js";
+import { tabulationNodes } from "./sampling.js";
 
 /** Absolute quadrature tolerance of a tabulation cell (cells sum to the partial losses; 1e-13 per cell keeps the total below 1e-10). */
 export const CELL_ABS_TOL = 1e-13;
@@ -283,18 +208,4 @@ export function endpointIntegral(integrand: (x: number) => number, a: number, b:
   // Geometric tail beyond the last resolved decade (exact in the limit for g ~ x^p).
   value += last * (rho / (1 - rho));
   return { value, finite: true };
-}
-
-/**
- * Inverse of a strictly monotone function f on [lo, hi] at y, by bisection; clamps to the nearer end
- * when y lies outside f's range there.
- */
-export function invertMonotone(f: (x: number) => number, y: number, lo: number, hi: number): number {
-  const flo = f(lo);
-  const fhi = f(hi);
-  const increasing = fhi >= flo;
-  if (increasing ? y <= flo : y >= flo) return lo;
-  if (increasing ? y >= fhi : y <= fhi) return hi;
-  const root = bisect((x) => f(x) - y, lo, hi, 1e-15, 200);
-  return root ?? NaN;
 }
