@@ -8,7 +8,7 @@ import { generate } from "../../server/src/codegen/index.js";
 import { CLAMP_EPS, lowerLoss } from "../../server/src/codegen/model.js";
 import { sanitiseName, tsFunctionName } from "../../server/src/codegen/names.js";
 import { rewriteStable } from "../../server/src/codegen/rewrite.js";
-import { integrateWeight } from "../../server/src/semantics/derived.js";
+import { integrateWeight } from "../../server/src/semantics/derived/weight-integral.js";
 import { compileExpr } from "../../server/src/semantics/compile.js";
 import { printExpr } from "../../server/src/semantics/symbolic.js";
 import { analyseDocument } from "../../server/src/service/document.js";

@@ -18,7 +18,8 @@ import { nearlyEqual } from "../analysis/numeric/tolerance.js";
 import type { Expr } from "../syntax/ast.js";
 import { compileExpr } from "../semantics/compile.js";
 import type { LossReport } from "../service/document.js";
-import { integrateWeight, recoveryMap, savagePartials, weightFromPartials } from "../semantics/derived.js";
+import { recoveryMap, savagePartials, weightFromPartials } from "../semantics/derived/savage.js";
+import { integrateWeight } from "../semantics/derived/weight-integral.js";
 import {
   call, dependsOn, differentiate, name, negate as neg, NotDifferentiable, num, op as bin, printExpr as printNotation, simplify, substitute,
 } from "../semantics/symbolic.js";

@@ -6,7 +6,9 @@
  */
 import type { Expr } from "../syntax/ast.js";
 import type { Issue, Span } from "../issue.js";
-import { completePartial, recoveryMap, savagePartials, show, showBest } from "../semantics/derived.js";
+import { show, showBest } from "../semantics/derived/pretty.js";
+import { recoveryMap, savagePartials } from "../semantics/derived/savage.js";
+import { completePartial } from "../semantics/derived/weight-integral.js";
 import { helperBodies } from "../semantics/family.js";
 import type { ClauseName, LossInfo, SemanticModel } from "../semantics/model.js";
 import { suggest } from "../semantics/suggest.js";

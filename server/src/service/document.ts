@@ -6,7 +6,8 @@
 import { analyseFamily, type AnalyseOptions, type LossAnalysis } from "../analysis/analyse.js";
 import type { ClauseKey, Finding } from "../loss-model.js";
 import { makeIssue, type Issue, type Span } from "../issue.js";
-import { recoveryMap, showBest } from "../semantics/derived.js";
+import { showBest } from "../semantics/derived/pretty.js";
+import { recoveryMap } from "../semantics/derived/savage.js";
 import { compileLoss, type CompiledLoss } from "../semantics/family.js";
 import { analyseSemantics, type ClauseName, type LossInfo, type SemanticModel } from "../semantics/model.js";
 import { parse, type ParseResult } from "../syntax/parse.js";
