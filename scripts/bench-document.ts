@@ -7,7 +7,7 @@ import { readFileSync } from "node:fs";
 import { analyseCurvature } from "../server/src/analysis/curvature.js";
 import type { LossFamily } from "../server/src/loss-model.js";
 import { analyseProperness } from "../server/src/analysis/properness.js";
-import { analyseDocument } from "../server/src/service/document.js";
+import { analyseDocument } from "../server/src/pipeline/pipeline.js";
 
 function median(xs: number[]): number {
   const s = [...xs].sort((a, b) => a - b);

@@ -1,10 +1,9 @@
 /** The extension's commands: curve viewer, code generation and report export. */
 import * as vscode from "vscode";
 import type { LanguageClient } from "vscode-languageclient/node";
-import { GENERATE_REQUEST, type GenerateParams, type GenerateResult } from "../../server/src/protocol.js";
+import { GENERATE_REQUEST, REPORT_REQUEST, type GenerateParams, type GenerateResult, type ReportParams, type ReportResult } from "../../server/src/protocol.js";
 
 /** Custom request for an HTML report of a document (served when the server has a report service). */
-const REPORT_REQUEST = "propriety/report";
 
 /** An optional viewer implementation: set by extension.ts when the curve viewer module is bundled. */
 export type OpenViewer = (context: vscode.ExtensionContext, client: LanguageClient, uri: string, loss?: string) => unknown;
@@ -79,7 +78,7 @@ export function registerCommands(context: vscode.ExtensionContext, client: Langu
         return;
       }
       try {
-        const result = await client.sendRequest<{ html: string } | null>(REPORT_REQUEST, { uri: doc.uri.toString() });
+        const result = await client.sendRequest<ReportResult | null>(REPORT_REQUEST, { uri: doc.uri.toString() } satisfies ReportParams);
         if (!result) {
           void vscode.window.showInformationMessage("The report is not available for this document.");
           return;

@@ -1,25 +1,21 @@
-/** The `propriety.*` settings, read from the VS Code configuration in the shape the server expects. */
+/**
+ * The `propriety.*` settings, read from the VS Code configuration in the shape the server expects. The
+ * defaults come from the one settings table the server uses (server/src/settings.ts); the server
+ * normalises what it receives (clamps out-of-range values with a log line).
+ */
 import * as vscode from "vscode";
+import { DEFAULT_SETTINGS, toClientShape, type AnalysisSettings } from "../../server/src/settings.js";
 
-export interface ProprietySettings {
-  analysis: { deadlineMs: number; gridResolution: number };
-  defaultThreshold: number;
-  maxAnalysedLosses: number;
-  debounceMs: number;
-  format: { indent: number };
-}
-
-/** Reads the current settings (defaults as contributed in package.json). */
-export function readSettings(): ProprietySettings {
+/** Reads the current settings (a value the user did not set takes the table's default). */
+export function readSettings(): Record<string, unknown> {
   const c = vscode.workspace.getConfiguration("propriety");
-  return {
-    analysis: {
-      deadlineMs: c.get<number>("analysis.deadlineMs", 2000),
-      gridResolution: c.get<number>("analysis.gridResolution", 201),
-    },
-    defaultThreshold: c.get<number>("defaultThreshold", 0.5),
-    maxAnalysedLosses: c.get<number>("maxAnalysedLosses", 200),
-    debounceMs: c.get<number>("debounceMs", 150),
-    format: { indent: c.get<number>("format.indent", 2) },
+  const s: AnalysisSettings = {
+    gridResolution: c.get<number>("analysis.gridResolution", DEFAULT_SETTINGS.gridResolution),
+    deadlineMs: c.get<number>("analysis.deadlineMs", DEFAULT_SETTINGS.deadlineMs),
+    defaultThreshold: c.get<number>("defaultThreshold", DEFAULT_SETTINGS.defaultThreshold),
+    maxAnalysedLosses: c.get<number>("maxAnalysedLosses", DEFAULT_SETTINGS.maxAnalysedLosses),
+    debounceMs: c.get<number>("debounceMs", DEFAULT_SETTINGS.debounceMs),
+    indent: c.get<number>("format.indent", DEFAULT_SETTINGS.indent),
   };
+  return toClientShape(s);
 }

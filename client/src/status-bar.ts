@@ -1,20 +1,10 @@
 /** A status-bar item summarising the loss under the cursor: verdict · λ · exponents. */
 import * as vscode from "vscode";
 import type { LanguageClient } from "vscode-languageclient/node";
+import { ANALYSED_NOTIFICATION, LOSS_SUMMARY_REQUEST, type LossSummaryParams, type LossSummaryResult } from "../../server/src/protocol.js";
 
-/** Must match LOSS_SUMMARY_REQUEST in server/src/lsp/server.ts (the client imports no server code). */
-const LOSS_SUMMARY_REQUEST = "propriety/lossSummary";
-/** Must match ANALYSED_NOTIFICATION in server/src/lsp/server.ts. */
-const ANALYSED_NOTIFICATION = "propriety/analysed";
 /** Cursor moves within this time are folded into one request. */
 const REFRESH_DELAY_MS = 200;
-
-interface LossSummary {
-  loss: string;
-  verdict: "strictly-proper" | "proper" | "improper" | "unknown" | null;
-  text: string;
-  summary: string;
-}
 
 const ICONS: Record<string, string> = { "strictly-proper": "$(pass-filled)", proper: "$(pass)", improper: "$(error)", unknown: "$(question)" };
 
@@ -32,10 +22,8 @@ export function registerStatusBar(context: vscode.ExtensionContext, client: Lang
       return;
     }
     try {
-      const summary = await client.sendRequest<LossSummary | null>(LOSS_SUMMARY_REQUEST, {
-        uri: editor.document.uri.toString(),
-        position: editor.selection.active,
-      });
+      const params: LossSummaryParams = { uri: editor.document.uri.toString(), position: { line: editor.selection.active.line, character: editor.selection.active.character } };
+      const summary = await client.sendRequest<LossSummaryResult | null>(LOSS_SUMMARY_REQUEST, params);
       if (!summary) {
         item.hide();
         return;

@@ -96,6 +96,49 @@ export interface GenerateResult {
 /** LSP request: generated implementation code for one loss or all losses of a document. */
 export const GENERATE_REQUEST = "propriety/generate";
 
+/** Position of the cursor, as LSP sends it (0-based line, UTF-16 character). */
+export interface ProtocolPosition {
+  line: number;
+  character: number;
+}
+
+/** LSP request: the figures of the loss under the cursor, for the client's status bar. */
+export const LOSS_SUMMARY_REQUEST = "propriety/lossSummary";
+
+export interface LossSummaryParams {
+  uri: string;
+  position: ProtocolPosition;
+}
+
+/** The status bar's figures of one loss (null when the cursor is outside every loss). */
+export interface LossSummaryResult {
+  loss: string;
+  verdict: LossCurves["verdict"] | null;
+  /** One line for the status bar. */
+  text: string;
+  /** The engine's one-line summary (the tooltip). */
+  summary: string;
+}
+
+/** LSP request: a self-contained HTML report of one open document (null when it is not open or the page assets are missing). */
+export const REPORT_REQUEST = "propriety/report";
+
+export interface ReportParams {
+  uri: string;
+}
+
+export interface ReportResult {
+  html: string;
+}
+
+/** LSP notification (server → client): a full analysis of a document version was published. */
+export const ANALYSED_NOTIFICATION = "propriety/analysed";
+
+export interface AnalysedParams {
+  uri: string;
+  version: number;
+}
+
 /** Messages between the extension host and the curve viewer webview. */
 export type ViewerToHost =
   | { type: "ready" }

@@ -10,7 +10,8 @@ import { describe, expect, it } from "vitest";
 import { nearlyEqual } from "../../server/src/analysis/numeric/tolerance.js";
 import { generate } from "../../server/src/codegen/index.js";
 import { sanitiseName, tsFunctionName } from "../../server/src/codegen/names.js";
-import { analyseDocument, type DocumentAnalysis } from "../../server/src/service/document.js";
+import { analyseDocument } from "../../server/src/pipeline/pipeline.js";
+import type { DocumentAnalysis } from "../../server/src/pipeline/stages.js";
 import {
   comparePlan, decode, fdPointsFor, loadTs, planArrays, probabilityPoints, pythonHas, referenceFor, runNumpy, sampleFiles,
   SAMPLES_DIR, scorePoints, type Executed, type Plan, type PyCall,

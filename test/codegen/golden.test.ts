@@ -12,7 +12,7 @@ import { describe, expect, it } from "vitest";
 import { nearlyEqual } from "../../server/src/analysis/numeric/tolerance.js";
 import { generate, TARGETS, type Target } from "../../server/src/codegen/index.js";
 import { sanitiseName } from "../../server/src/codegen/names.js";
-import { analyseDocument } from "../../server/src/service/document.js";
+import { analyseDocument } from "../../server/src/pipeline/pipeline.js";
 import { checkAst, decode, HERE, probabilityPoints, scorePoints, pythonHas, referenceFor, sampleFiles, SAMPLES_DIR, TOL, type PyCall } from "./support.js";
 
 const UPDATE = process.env.UPDATE_GOLDEN === "1";

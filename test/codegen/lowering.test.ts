@@ -11,7 +11,7 @@ import { rewriteStable } from "../../server/src/codegen/rewrite.js";
 import { integrateWeight } from "../../server/src/semantics/derived/weight-integral.js";
 import { compileExpr } from "../../server/src/semantics/compile.js";
 import { printExpr } from "../../server/src/semantics/symbolic.js";
-import { analyseDocument } from "../../server/src/service/document.js";
+import { analyseDocument } from "../../server/src/pipeline/pipeline.js";
 import { parse } from "../../server/src/syntax/parse.js";
 import type { Expr } from "../../server/src/syntax/ast.js";
 import { decode, loadTs, pythonHas, runNumpy } from "./support.js";

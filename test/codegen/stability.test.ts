@@ -10,7 +10,7 @@ import { nearlyEqual } from "../../server/src/analysis/numeric/tolerance.js";
 import { generate, type GenerateOptions } from "../../server/src/codegen/index.js";
 import { CLAMP_EPS } from "../../server/src/codegen/model.js";
 import { normcdf as normcdfRef, sigmoid, softplus } from "../../server/src/semantics/builtins.js";
-import { analyseDocument } from "../../server/src/service/document.js";
+import { analyseDocument } from "../../server/src/pipeline/pipeline.js";
 import { checkAst, decode, loadTs, pythonHas, runNumpy, SAMPLES_DIR } from "./support.js";
 
 const HAS_NUMPY = pythonHas("numpy");

@@ -13,7 +13,7 @@ import { integrate } from "../../server/src/analysis/numeric/quadrature.js";
 import { seededRandom } from "../../server/src/analysis/numeric/sampling.js";
 import type { LossSpec } from "../../server/src/loss-model.js";
 import { logit, sigmoid } from "../../server/src/semantics/builtins.js";
-import type { LossReport } from "../../server/src/service/document.js";
+import type { LossReport } from "../../server/src/pipeline/stages.js";
 
 export const ROOT = path.resolve(__dirname, "../..");
 export const SAMPLES_DIR = path.join(ROOT, "samples");

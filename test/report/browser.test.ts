@@ -13,7 +13,7 @@ import { chromium, type Browser, type Page } from "playwright-core";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { viewerHtml } from "../../client/src/viewer-html.js";
 import type { CurvesResult, HostToViewer, LossCurves } from "../../server/src/protocol.js";
-import { analyseDocument } from "../../server/src/service/document.js";
+import { analyseDocument } from "../../server/src/pipeline/pipeline.js";
 import { renderReport } from "../../server/src/service/report.js";
 
 const CHROMIUM = "/usr/bin/chromium";

@@ -6,7 +6,7 @@ import { readFileSync, writeFileSync } from "node:fs";
 import * as path from "node:path";
 import { describe, expect, it } from "vitest";
 import { nearlyEqual } from "../../server/src/analysis/numeric/tolerance.js";
-import { analyseDocument } from "../../server/src/service/document.js";
+import { analyseDocument } from "../../server/src/pipeline/pipeline.js";
 import { CLIP_INTERIOR, computeCurves, DEFAULT_ETAS, suggestRange } from "../../server/src/service/curves.js";
 import type { CurvesResult, LossCurves } from "../../server/src/protocol.js";
 

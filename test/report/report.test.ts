@@ -3,7 +3,7 @@
  * script, and a Content-Security-Policy that admits nothing but the page's own nonce'd script and style.
  */
 import { describe, expect, it } from "vitest";
-import { analyseDocument } from "../../server/src/service/document.js";
+import { analyseDocument } from "../../server/src/pipeline/pipeline.js";
 import { REPORT_CAUTION, renderReport } from "../../server/src/service/report.js";
 import type { CurvesResult } from "../../server/src/protocol.js";
 

@@ -10,7 +10,7 @@ import { nearlyEqual } from "../../server/src/analysis/numeric/tolerance.js";
 import { seededRandom } from "../../server/src/analysis/numeric/sampling.js";
 import { BUILTINS } from "../../server/src/semantics/builtins.js";
 import { compileDef, compileExpr, CompileError, evalConstant, type CompileScope } from "../../server/src/semantics/compile.js";
-import { analyseDocument } from "../../server/src/service/document.js";
+import { analyseDocument } from "../../server/src/pipeline/pipeline.js";
 import type { Expr } from "../../server/src/syntax/ast.js";
 import { parse } from "../../server/src/syntax/parse.js";
 

@@ -6,7 +6,7 @@
  */
 import { describe, expect, it } from "vitest";
 import { compileLoss } from "../../server/src/semantics/family.js";
-import { analyseDocument } from "../../server/src/service/document.js";
+import { analyseDocument } from "../../server/src/pipeline/pipeline.js";
 import { checkIssues, parseAnnotations } from "../support/annotations.js";
 
 interface Case {

@@ -7,7 +7,8 @@ import { describe, expect, it } from "vitest";
 import type { Issue } from "../../server/src/issue.js";
 import { compileLoss } from "../../server/src/semantics/family.js";
 import { analyseSemantics } from "../../server/src/semantics/model.js";
-import { analyseDocument, type DocumentAnalysis } from "../../server/src/service/document.js";
+import { analyseDocument } from "../../server/src/pipeline/pipeline.js";
+import type { DocumentAnalysis } from "../../server/src/pipeline/stages.js";
 import { parse } from "../../server/src/syntax/parse.js";
 
 const FLOOD_DESK = readFileSync(path.join(__dirname, "../../samples/flood-desk.loss"), "utf8");

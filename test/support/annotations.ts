@@ -9,7 +9,8 @@
  */
 import { expect } from "vitest";
 import type { Issue } from "../../server/src/issue.js";
-import { analyseDocument, type DocumentAnalysis } from "../../server/src/service/document.js";
+import { analyseDocument } from "../../server/src/pipeline/pipeline.js";
+import type { DocumentAnalysis } from "../../server/src/pipeline/stages.js";
 import { LineIndex } from "../../server/src/service/text-position.js";
 
 /** One expected issue: its 0-based line, its character range on that line, its code and a message substring. */

@@ -10,8 +10,8 @@ import * as fs from "node:fs";
 import * as path from "node:path";
 import { parseArgs } from "node:util";
 import { generate, isTarget, TARGETS, type GenerateOptions } from "../codegen/index.js";
-import { analyseDocument } from "../service/document.js";
-import { readSource, type CliIo } from "./io.js";
+import { analyseDocument } from "../pipeline/pipeline.js";
+import { readSource, settingsFromArgs, SETTINGS_HELP, SETTINGS_OPTIONS, UsageError, type CliIo } from "./io.js";
 
 export const GEN_HELP = `gen:
   propriety gen --target torch|jax|numpy|ts [--input prob|score] FILE [--loss NAME] [--out PATH]
@@ -24,7 +24,7 @@ export const GEN_HELP = `gen:
   --allow-improper  also generate improper losses (WARNING header, posterior-recovery function)
   --set a=2      bake in a parameter value other than its default (repeatable)
   --link canonical  use the canonical link (psi' = w) for score input
-  Exit status: 0 generated, 1 the loss cannot be generated, 2 usage or I/O error.
+${SETTINGS_HELP}  Exit status: 0 generated, 1 the loss cannot be generated, 2 usage or I/O error.
 `;
 
 class GenUsageError extends Error {}
@@ -75,6 +75,7 @@ export function runGen(args: string[], io: CliIo): number {
         set: { type: "string", multiple: true },
         link: { type: "string" },
         help: { type: "boolean", short: "h" },
+        ...SETTINGS_OPTIONS,
       },
       allowPositionals: true,
     }));
@@ -96,6 +97,13 @@ export function runGen(args: string[], io: CliIo): number {
     if (positionals.length !== 1) throw new GenUsageError(positionals.length === 0 ? "gen needs one FILE" : "gen takes exactly one FILE");
     const file = positionals[0]!;
     const overrides = parseSets((values.set as string[] | undefined) ?? []);
+    let settings;
+    try {
+      settings = settingsFromArgs(values);
+    } catch (err) {
+      if (err instanceof UsageError) throw new GenUsageError(err.message);
+      throw err;
+    }
     const text = readSource(file, io);
     if (text === null) return 2;
     const options: GenerateOptions = {
@@ -107,7 +115,7 @@ export function runGen(args: string[], io: CliIo): number {
     };
     if (typeof values.loss === "string") options.loss = values.loss;
     if (link === "canonical") options.link = "canonical";
-    const result = generate(analyseDocument(text), options);
+    const result = generate(analyseDocument(text, settings), options);
     if (!result.ok) {
       io.stderr(`propriety: ${file}: ${result.message.split("\n").join(`\npropriety: ${file}: `)}\n`);
       return 1;

@@ -4,7 +4,9 @@
  */
 import * as fs from "node:fs";
 import * as path from "node:path";
-import { analyseDocument, type DocumentAnalysis } from "../service/document.js";
+import type { DocumentAnalysis } from "../pipeline/stages.js";
+import { createPipeline, type Pipeline } from "../pipeline/pipeline.js";
+import { DEFAULT_SETTINGS, settingSpec, type AnalysisSettings } from "../settings.js";
 
 export interface CliIo {
   stdout(text: string): void;
@@ -60,16 +62,51 @@ export function readSource(file: string, io: CliIo): string | null {
   }
 }
 
-/** Expands the paths, reads and analyses every file; null when a file cannot be read. */
-export function loadDocuments(inputs: string[], io: CliIo): { file: string; doc: DocumentAnalysis }[] | null {
+/**
+ * The analysis settings the command line was given: `--threshold C` (the default threshold of losses
+ * without a `threshold` clause) and `--grid N` (grid points of the numeric checks), each checked against
+ * the range the settings table documents; other settings take their defaults, as in the editor.
+ */
+export const SETTINGS_OPTIONS = {
+  threshold: { type: "string" },
+  grid: { type: "string" },
+} as const;
+
+export const SETTINGS_HELP = `  --threshold C  decision threshold of losses without a threshold clause (default ${DEFAULT_SETTINGS.defaultThreshold}; editor setting propriety.defaultThreshold)
+  --grid N       grid points of the numeric checks (default ${DEFAULT_SETTINGS.gridResolution}; editor setting propriety.analysis.gridResolution)
+`;
+
+export function settingsFromArgs(values: { threshold?: string | boolean | string[] | undefined; grid?: string | boolean | string[] | undefined }): Partial<AnalysisSettings> {
+  const out: Partial<AnalysisSettings> = {};
+  const read = (flag: string, raw: unknown, key: string): number | undefined => {
+    if (raw === undefined) return undefined;
+    const v = Number(raw);
+    const spec = settingSpec(key);
+    const lo = spec.minimum ?? -Infinity;
+    const hi = spec.maximum ?? Infinity;
+    const inside = spec.exclusive ? v > lo && v < hi : v >= lo && v <= hi;
+    if (typeof raw !== "string" || raw.trim() === "" || !Number.isFinite(v) || !inside || (spec.type === "integer" && !Number.isInteger(v))) {
+      throw new UsageError(`--${flag} expects ${spec.type === "integer" ? "an integer" : "a number"} in ${spec.exclusive ? "(" : "["}${lo}, ${hi}${spec.exclusive ? ")" : "]"}, got '${String(raw)}'`);
+    }
+    return v;
+  };
+  const t = read("threshold", values.threshold, "defaultThreshold");
+  if (t !== undefined) out.defaultThreshold = t;
+  const g = read("grid", values.grid, "analysis.gridResolution");
+  if (g !== undefined) out.gridResolution = g;
+  return out;
+}
+
+/** Expands the paths, reads and analyses every file through one pipeline; null when a file cannot be read. */
+export function loadDocuments(inputs: string[], io: CliIo, settings: Partial<AnalysisSettings> = {}): { file: string; doc: DocumentAnalysis }[] | null {
   const files = collectFiles(inputs, io);
   if (files.length === 0) throw new UsageError(`no .loss files found in ${inputs.join(", ")}`);
+  const pipeline: Pipeline = createPipeline(settings);
   const docs: { file: string; doc: DocumentAnalysis }[] = [];
   for (const file of files) {
     const text = readSource(file, io);
     if (text === null) return null;
-    docs.push({ file, doc: analyseDocument(text) });
+    docs.push({ file, doc: pipeline.full(text) });
   }
   return docs;
 }
-

@@ -5,7 +5,7 @@
  * 2 usage or I/O error).
  */
 import { parseArgs } from "node:util";
-import { loadDocuments, nodeIo, UsageError, type CliIo } from "./io.js";
+import { loadDocuments, nodeIo, settingsFromArgs, SETTINGS_HELP, SETTINGS_OPTIONS, UsageError, type CliIo } from "./io.js";
 import { toJsonFile, toSarif, toTextLines } from "../service/check-report.js";
 import { runReport } from "./report.js";
 import { runGen } from "./gen.js";
@@ -22,7 +22,8 @@ export const COMMANDS = ["check", "report", "gen"];
 const HELP = `propriety ${VERSION} — check classification losses written in the .loss notation
 
 Usage:
-  propriety check [--json | --sarif] FILE|DIR…   check properness, curvature and claims
+  propriety check [--json | --sarif] [--threshold C] [--grid N] FILE|DIR…
+                                                  check properness, curvature and claims
   propriety report FILE|DIR… --out report.html [--png DIR] [--svg DIR]
                                                   one self-contained HTML page with figures and curves
   propriety gen --target torch|jax|numpy|ts FILE  generate training code (see 'propriety gen --help')
@@ -33,7 +34,7 @@ check:
   Text output: path:line:col: severity code: message (1-based).
   --json   one JSON object: files, diagnostics (0-based LSP ranges), per-loss figures
   --sarif  a SARIF 2.1.0 log for code-scanning tools
-  Exit status: 0 no errors, 1 errors found, 2 usage or I/O error.
+${SETTINGS_HELP}  Exit status: 0 no errors, 1 errors found, 2 usage or I/O error.
 
 report:
   Every loss's verdict, λ, modulus, bound exponents, inverse table and curves; no network needed.
@@ -75,7 +76,7 @@ export async function main(argv: string[], io: CliIo = nodeIo): Promise<number> 
 function runCheck(args: string[], io: CliIo): number {
   const { values, positionals } = parseArgs({
     args,
-    options: { json: { type: "boolean" }, sarif: { type: "boolean" }, help: { type: "boolean", short: "h" } },
+    options: { json: { type: "boolean" }, sarif: { type: "boolean" }, help: { type: "boolean", short: "h" }, ...SETTINGS_OPTIONS },
     allowPositionals: true,
   });
   if (values.help) {
@@ -84,7 +85,7 @@ function runCheck(args: string[], io: CliIo): number {
   }
   if (values.json && values.sarif) throw new UsageError("--json and --sarif cannot be combined");
   if (positionals.length === 0) throw new UsageError("check needs at least one FILE or DIR");
-  const docs = loadDocuments(positionals, io);
+  const docs = loadDocuments(positionals, io, settingsFromArgs(values));
   if (docs === null) return 2;
   const files = docs.map((d) => d.file);
   const hasErrors = docs.some(({ doc }) => doc.issues.some((i) => i.severity === "error"));

@@ -8,7 +8,7 @@ import * as path from "node:path";
 import { randomBytes } from "node:crypto";
 import { parseArgs } from "node:util";
 import { renderReport } from "../service/report.js";
-import { loadDocuments, UsageError, type CliIo } from "./io.js";
+import { loadDocuments, settingsFromArgs, SETTINGS_HELP, SETTINGS_OPTIONS, UsageError, type CliIo } from "./io.js";
 import { VERSION } from "../version.js";
 
 /** Where the built page assets are looked for, and which Chromium to drive. */
@@ -31,7 +31,7 @@ export const REPORT_HELP = `report:
   Writes one self-contained HTML page (no network) with every loss's verdict, λ, modulus, bound
   exponents, inverse table and curves. --png/--svg also export each chart (needs Chromium:
   /usr/bin/chromium or $PROPRIETY_CHROMIUM, and the playwright-core package).
-`;
+${SETTINGS_HELP}`;
 
 function assetCandidates(env: ReportEnv): string[] {
   const out: string[] = [];
@@ -65,6 +65,7 @@ export async function runReport(args: string[], io: CliIo, env: ReportEnv = {}):
       svg: { type: "string" },
       title: { type: "string" },
       help: { type: "boolean", short: "h" },
+      ...SETTINGS_OPTIONS,
     },
     allowPositionals: true,
   });
@@ -74,7 +75,7 @@ export async function runReport(args: string[], io: CliIo, env: ReportEnv = {}):
   }
   if (positionals.length === 0) throw new UsageError("report needs at least one FILE or DIR");
   if (!values.out) throw new UsageError("report needs --out FILE.html");
-  const docs = loadDocuments(positionals, io);
+  const docs = loadDocuments(positionals, io, settingsFromArgs(values));
   if (docs === null) return 2;
   const files = docs.map((d) => d.file);
   let assets: { script: string; css: string };

@@ -2,7 +2,7 @@
  * Code generation entry point: an analysed document becomes a PyTorch, JAX, NumPy or TypeScript module
  * with one function per loss. Pure (no file system): the CLI writes the returned text.
  */
-import type { DocumentAnalysis } from "../service/document.js";
+import type { DocumentAnalysis } from "../pipeline/stages.js";
 import { emitJax } from "./emit-jax.js";
 import { emitNumpy } from "./emit-numpy.js";
 import type { EmitInput } from "./emit-python-common.js";

@@ -17,7 +17,7 @@ import type { LossAnalysis } from "../analysis/analyse.js";
 import { nearlyEqual } from "../analysis/numeric/tolerance.js";
 import type { Expr } from "../syntax/ast.js";
 import { compileExpr } from "../semantics/compile.js";
-import type { LossReport } from "../service/document.js";
+import type { LossReport } from "../pipeline/stages.js";
 import { recoveryMap, savagePartials, weightFromPartials } from "../semantics/derived/savage.js";
 import { integrateWeight } from "../semantics/derived/weight-integral.js";
 import {

@@ -7,11 +7,10 @@
  */
 import type { Issue } from "../issue.js";
 import { makeIssue } from "../issue.js";
-import type { DocumentAnalysis } from "../service/document.js";
+import type { DocumentAnalysis } from "../pipeline/stages.js";
 import type { LanguageService } from "../service/language-service.js";
+import { DEFAULT_SETTINGS } from "../settings.js";
 
-/** Debounce before the engine runs (ms): long enough to skip intermediate keystrokes, short enough to feel live. */
-export const DEFAULT_DEBOUNCE_MS = 150;
 
 export interface SchedulerHooks {
   publish(uri: string, version: number, issues: Issue[], pass: "fast" | "full"): void;
@@ -36,7 +35,7 @@ export class DiagnosticsScheduler {
   constructor(
     private readonly service: LanguageService,
     private readonly hooks: SchedulerHooks,
-    private readonly debounceMs = DEFAULT_DEBOUNCE_MS,
+    private readonly debounceMs = DEFAULT_SETTINGS.debounceMs,
   ) {}
 
   /** A document was opened or changed: fast pass now, slow pass after the debounce. */

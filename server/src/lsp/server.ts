@@ -11,55 +11,26 @@ import {
 } from "vscode-languageserver/node";
 import { TextDocument } from "vscode-languageserver-textdocument";
 import type { Issue } from "../issue.js";
-import { generate, isTarget } from "../codegen/index.js";
-import { CURVES_REQUEST, GENERATE_REQUEST, type CurvesParams, type CurvesResult, type GenerateParams, type GenerateResult } from "../protocol.js";
-import { computeCurves } from "../service/curves.js";
-import { renderReport } from "../service/report.js";
-import { createLanguageService, type LanguageService, type ServiceSettings } from "../service/language-service.js";
+import { isTarget, type GenerateOptions } from "../codegen/index.js";
+import {
+  ANALYSED_NOTIFICATION, CURVES_REQUEST, GENERATE_REQUEST, LOSS_SUMMARY_REQUEST, REPORT_REQUEST,
+  type CurvesParams, type CurvesResult, type GenerateParams, type GenerateResult, type LossSummaryParams, type ReportParams, type ReportResult,
+} from "../protocol.js";
+import { createLanguageService, type LanguageService } from "../service/language-service.js";
 import { TOKEN_MODIFIERS, TOKEN_TYPES } from "../service/semantic-tokens.js";
+import { normaliseSettings, type AnalysisSettings } from "../settings.js";
 import {
   fromDiagnostic, toCodeAction, toCompletionItem, toDiagnostic, toDocumentSymbol, toFoldingRange, toOffset, toRange, toSpan, toTextEdit,
 } from "./convert.js";
-import { DEFAULT_DEBOUNCE_MS, DiagnosticsScheduler } from "./scheduler.js";
+import { DiagnosticsScheduler } from "./scheduler.js";
 
-/** Losses analysed per document unless the settings say otherwise: keeps a huge paste from stalling the engine. */
-export const DEFAULT_MAX_ANALYSED_LOSSES = 200;
-
-/** Custom request: the figures of the loss under the cursor, for the client's status bar. */
-export const LOSS_SUMMARY_REQUEST = "propriety/lossSummary";
-/** Custom request: a self-contained HTML report of one open document ({ uri } → { html } or null). */
-export const REPORT_REQUEST = "propriety/report";
-/** Custom notification: a full analysis of a document version was published. */
-export const ANALYSED_NOTIFICATION = "propriety/analysed";
-
-/** The `propriety.*` settings the client sends (initializationOptions.settings or didChangeConfiguration). */
-export interface ClientSettings {
-  analysis?: { deadlineMs?: number; gridResolution?: number; seed?: number };
-  defaultThreshold?: number;
-  maxAnalysedLosses?: number;
-  debounceMs?: number;
-  format?: { indent?: number };
-}
-
-/** Maps client settings onto the service's; unknown or ill-typed values are ignored. */
-export function toServiceSettings(s: ClientSettings | undefined): Partial<ServiceSettings> {
-  const out: Partial<ServiceSettings> = {};
-  if (!s || typeof s !== "object") return out;
-  const num = (x: unknown): number | undefined => (typeof x === "number" && Number.isFinite(x) ? x : undefined);
-  const analysis: Record<string, number> = {};
-  const a = s.analysis ?? {};
-  for (const k of ["deadlineMs", "gridResolution", "seed"] as const) {
-    const v = num(a[k]);
-    if (v !== undefined) analysis[k] = v;
-  }
-  const t = num(s.defaultThreshold);
-  if (t !== undefined && t > 0 && t < 1) analysis["defaultThreshold"] = t;
-  out.analysis = analysis;
-  const max = num(s.maxAnalysedLosses);
-  if (max !== undefined && max >= 1) out.maxAnalysedLosses = Math.floor(max);
-  const indent = num(s.format?.indent);
-  if (indent !== undefined) out.indent = indent;
-  return out;
+/**
+ * The `propriety.*` settings a client sends (initializationOptions.settings or didChangeConfiguration),
+ * normalised by the one settings table: wrong types take the default and values out of range are
+ * clamped, each with a log line; the rest of the server sees only valid settings.
+ */
+export function toServiceSettings(raw: unknown, log: (message: string) => void = () => undefined): AnalysisSettings {
+  return normaliseSettings(raw, log);
 }
 
 /** What the server needs from its host process (file access stays in main.ts). */
@@ -72,13 +43,13 @@ export interface ServerHost {
 export function startServer(connection: Connection, host: ServerHost = {}): void {
   const documents = new TextDocuments(TextDocument);
   const log = (m: string) => connection.console.log(m);
-  const service: LanguageService = createLanguageService({ maxAnalysedLosses: DEFAULT_MAX_ANALYSED_LOSSES }, (feature, err) => {
+  const service: LanguageService = createLanguageService({}, (feature, err) => {
     connection.console.error(`${feature} failed: ${err instanceof Error ? err.stack ?? err.message : String(err)}`);
-  });
+  }, log);
   let caps: ClientCapabilities = {};
   let relatedSupport = false;
   let snippetSupport = false;
-  let debounceMs = DEFAULT_DEBOUNCE_MS;
+  let debounceMs = service.settings.debounceMs;
 
   const publish = (uri: string, version: number, issues: Issue[]) => {
     const doc = documents.get(uri);
@@ -100,15 +71,16 @@ export function startServer(connection: Connection, host: ServerHost = {}): void
     }, debounceMs);
   }
 
-  function applySettings(s: ClientSettings | undefined): void {
-    service.configure(toServiceSettings(s));
-    const d = typeof s?.debounceMs === "number" && s.debounceMs >= 0 && s.debounceMs <= 5000 ? s.debounceMs : DEFAULT_DEBOUNCE_MS;
-    if (d !== debounceMs) {
-      debounceMs = d;
+  /** Takes a settings object from the client (anything may arrive); rechecks open documents when asked. */
+  function applySettings(raw: unknown, recheck: boolean): void {
+    const next = toServiceSettings(raw, log);
+    service.configure(next);
+    if (service.settings.debounceMs !== debounceMs) {
+      debounceMs = service.settings.debounceMs;
       scheduler = makeScheduler();
     }
     // Settings change the analysis: recheck every open document.
-    for (const doc of documents.all()) scheduler.update(doc.uri, doc.version, doc.getText());
+    if (recheck) for (const doc of documents.all()) scheduler.update(doc.uri, doc.version, doc.getText());
   }
 
   /** Wraps a handler: exceptions are logged and answered with the fallback, never left to kill the server. */
@@ -136,14 +108,8 @@ export function startServer(connection: Connection, host: ServerHost = {}): void
     caps = params.capabilities;
     relatedSupport = caps.textDocument?.publishDiagnostics?.relatedInformation === true;
     snippetSupport = caps.textDocument?.completion?.completionItem?.snippetSupport === true;
-    const init = params.initializationOptions as { settings?: ClientSettings } | undefined;
-    if (init?.settings) {
-      service.configure(toServiceSettings(init.settings));
-      if (typeof init.settings.debounceMs === "number" && init.settings.debounceMs >= 0 && init.settings.debounceMs <= 5000) {
-        debounceMs = init.settings.debounceMs;
-        scheduler = makeScheduler();
-      }
-    }
+    const init = params.initializationOptions as { settings?: unknown } | null | undefined;
+    if (init && typeof init === "object" && init.settings !== undefined) applySettings(init.settings, false);
     const customs = [LOSS_SUMMARY_REQUEST, CURVES_REQUEST, GENERATE_REQUEST, REPORT_REQUEST];
     return {
       capabilities: {
@@ -174,11 +140,11 @@ export function startServer(connection: Connection, host: ServerHost = {}): void
   });
 
   connection.onDidChangeConfiguration(guard("didChangeConfiguration", undefined, async (p) => {
-    const pushed = (p.settings as { propriety?: ClientSettings } | null)?.propriety;
-    if (pushed) return applySettings(pushed);
+    const pushed = p.settings && typeof p.settings === "object" ? (p.settings as { propriety?: unknown }).propriety : undefined;
+    if (pushed !== undefined) return applySettings(pushed, true);
     if (caps.workspace?.configuration) {
-      const pulled = (await connection.workspace.getConfiguration("propriety")) as ClientSettings | null;
-      applySettings(pulled ?? undefined);
+      const pulled: unknown = await connection.workspace.getConfiguration("propriety");
+      applySettings(pulled ?? {}, true);
     }
   }));
 
@@ -296,10 +262,10 @@ export function startServer(connection: Connection, host: ServerHost = {}): void
   connection.onDocumentFormatting(guard("formatting", [], (p) => {
     const doc = documents.get(p.textDocument.uri);
     if (!doc) return [];
-    return service.format(doc.getText()).map((e) => toTextEdit(doc, e));
+    return service.format(doc.getText(), { tabSize: p.options.tabSize, insertSpaces: p.options.insertSpaces }).map((e) => toTextEdit(doc, e));
   }));
 
-  connection.onRequest(LOSS_SUMMARY_REQUEST, guard("lossSummary", null, (p: { uri: string; position: Position }) => {
+  connection.onRequest(LOSS_SUMMARY_REQUEST, guard("lossSummary", null, (p: LossSummaryParams) => {
     const a = at(p.uri, p.position);
     return a ? service.lossSummary(a.text, a.offset) : null;
   }));
@@ -307,31 +273,29 @@ export function startServer(connection: Connection, host: ServerHost = {}): void
   connection.onRequest(CURVES_REQUEST, guard<CurvesParams, CurvesResult | null>("curves", null, (p) => {
     const doc = documents.get(p.uri);
     if (!doc) return { uri: p.uri, version: null, losses: [], skipped: [] };
-    const result = computeCurves(service.analyseFull(doc.getText()), p);
-    result.version = doc.version;
-    return result;
+    return { ...service.curves(doc.getText(), p), version: doc.version };
   }));
 
   connection.onRequest(GENERATE_REQUEST, guard<GenerateParams, GenerateResult>("generate", { ok: false, code: null, message: "internal error while generating code", fileName: null }, (p) => {
     const doc = documents.get(p.uri);
     if (!doc) return { ok: false, code: null, message: "the document is not open", fileName: null };
     if (!isTarget(p.target)) return { ok: false, code: null, message: `unknown target '${String(p.target)}'`, fileName: null };
-    const options: Parameters<typeof generate>[1] = { target: p.target, sourceName: decodeURIComponent(p.uri.split("/").pop() ?? p.uri) };
+    const options: GenerateOptions = { target: p.target, sourceName: decodeURIComponent(p.uri.split("/").pop() ?? p.uri) };
     if (p.input) options.input = p.input;
     if (p.loss) options.loss = p.loss;
     if (p.allowImproper) options.allowImproper = true;
-    const r = generate(service.analyseFull(doc.getText()), options);
+    const r = service.generate(doc.getText(), options);
     return r.ok ? { ok: true, code: r.code, message: null, fileName: r.fileName } : { ok: false, code: null, message: r.message, fileName: null };
   }));
 
-  connection.onRequest(REPORT_REQUEST, guard<{ uri: string }, { html: string } | null>("report", null, (p) => {
+  connection.onRequest(REPORT_REQUEST, guard<ReportParams, ReportResult | null>("report", null, (p) => {
     const doc = documents.get(p.uri);
     const assets = host.readReportAssets?.() ?? null;
     if (!doc || !assets) return null;
     const file = decodeURIComponent(p.uri.split("/").pop() ?? p.uri);
-    const html = renderReport([{ file, doc: service.analyseFull(doc.getText()) }], {
+    const html = service.report(doc.getText(), file, {
       script: assets.script, css: assets.css, title: `Propriety report: ${file}`,
-      generatedAt: new Date().toISOString(), generator: "propriety 0.1.0 (language server)",
+      generatedAt: new Date().toISOString(), generator: `propriety ${VERSION} (language server)`,
     });
     return { html };
   }));

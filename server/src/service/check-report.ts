@@ -5,7 +5,7 @@
 import type { LossAnalysis } from "../analysis/analyse.js";
 import { ISSUE_CODES } from "../issues.js";
 import type { Issue, Severity } from "../issue.js";
-import type { DocumentAnalysis } from "./document.js";
+import type { DocumentAnalysis } from "../pipeline/stages.js";
 import { LineIndex } from "./text-position.js";
 
 export interface JsonRange {

@@ -12,7 +12,7 @@ import { completePartial } from "../semantics/derived/weight-integral.js";
 import { helperBodies } from "../semantics/family.js";
 import type { ClauseName, LossInfo, SemanticModel } from "../semantics/model.js";
 import { suggest } from "../semantics/suggest.js";
-import type { DocumentAnalysis } from "./document.js";
+import type { DocumentAnalysis } from "../pipeline/stages.js";
 import { findLossAt, type TextEdit } from "./navigation.js";
 import { dependsOn, differentiate, inlineDefs } from "../semantics/symbolic.js";
 

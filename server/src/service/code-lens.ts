@@ -1,7 +1,8 @@
 /** Code lenses (one line above each loss with the engine's summary) and the loss summary for the status bar. */
 import type { Span } from "../issue.js";
 import type { LossAnalysis } from "../analysis/analyse.js";
-import type { DocumentAnalysis } from "./document.js";
+import type { DocumentAnalysis } from "../pipeline/stages.js";
+import type { LossSummaryResult } from "../protocol.js";
 import { formatNumber } from "./hover.js";
 import { findLossAt } from "./navigation.js";
 
@@ -28,12 +29,8 @@ export function computeCodeLenses(doc: DocumentAnalysis): CodeLens[] {
 }
 
 /** What the status bar shows for the loss under the cursor. */
-export interface LossSummary {
-  loss: string;
-  verdict: LossAnalysis["verdict"] | null;
-  text: string;
-  summary: string;
-}
+/** The status bar's figures (the protocol type: the client reads exactly this). */
+export type LossSummary = LossSummaryResult;
 
 /** The status-bar summary of the loss containing the offset, or null outside losses. */
 export function computeLossSummary(doc: DocumentAnalysis, offset: number): LossSummary | null {

@@ -7,7 +7,7 @@
 import { BUILTINS, CONSTANTS } from "../semantics/builtins.js";
 import { CLAUSE_DOCS, CLAUSE_NAMES, CLAUSE_VARIABLES, type LossInfo, type SemanticModel } from "../semantics/model.js";
 import { printExpr } from "../semantics/symbolic.js";
-import type { DocumentAnalysis } from "./document.js";
+import type { DocumentAnalysis } from "../pipeline/stages.js";
 import { findClauseAt, touches } from "./navigation.js";
 
 export type CompletionKind = "keyword" | "clause" | "claim" | "function" | "helper" | "parameter" | "variable" | "constant";

@@ -7,16 +7,15 @@
  * Pure and guarded: no I/O, never throws; a loss that cannot be drawn goes to `skipped` with a reason,
  * and every non-finite sample becomes a null gap with a note.
  */
-import { analyseProperness } from "../analysis/properness.js";
-import { boundedUnitFn } from "../analysis/numeric/limits.js";
-import { analyseCurvature, type CurvatureResult } from "../analysis/curvature.js";
+import type { CurvatureResult } from "../analysis/curvature.js";
 import { sampleCurves, series, type CurveSet, type Series } from "../analysis/curves.js";
-import { deriveLossFunctions } from "../analysis/derive.js";
-import type { LossFamily, LossFunctions, LossSpec } from "../loss-model.js";
+import { boundedUnitFn } from "../analysis/numeric/limits.js";
+import type { LossFunctions } from "../loss-model.js";
 import { fmt } from "../display.js";
 import { minimiseRisk } from "../analysis/recovery.js";
 import type { CurvesParams, CurvesResult, LossCurves, LossFigures, SeriesData } from "../protocol.js";
-import { lossCacheKey, type DocumentAnalysis, type LossReport } from "./document.js";
+import type { DocumentAnalysis, LossReport } from "../pipeline/stages.js";
+import { createPipeline, type PinnedAnalysis, type Pipeline } from "../pipeline/pipeline.js";
 
 /** Default η values of the conditional-risk curves: a 0.05 grid (the viewer's η slider steps through them). */
 export const DEFAULT_ETAS: readonly number[] = Array.from({ length: 19 }, (_, i) => Math.round((i + 1) * 5) / 100);
@@ -27,10 +26,6 @@ export const MIN_POINTS = 11;
 export const MAX_POINTS = 1001;
 /** At most this many η values per request (each one is a minimisation and a sampled curve). */
 export const MAX_ETAS = 101;
-/** Time budget of the properness check run for slider values (no range sweep: the values are pinned). */
-export const OVERRIDE_PROPERNESS_MS = 800;
-/** Time budget of the curvature analysis per loss and request. */
-export const CURVATURE_MS = 1500;
 /**
  * Where an axis is clipped: samples with x inside [CLIP_INTERIOR, 1 − CLIP_INTERIOR] set the range,
  * and a curve leaving it by more than CLIP_FACTOR times that range's height is clipped (common practice:
@@ -41,36 +36,12 @@ export const CLIP_FACTOR = 1;
 /** A minimiser farther than this from η is reported in the notes (grid and golden-section accuracy is ~1e-8). */
 export const MINIMISER_NOTE_TOL = 1e-4;
 /**
- * Sampled losses kept for reuse (least recently used dropped first). While a slider moves, only the
- * loss it belongs to changes; the others of the overlay come from here. About 0.3 MB each at 151 points.
- */
-export const CURVE_CACHE_SIZE = 48;
-
-/**
- * The curves are a deterministic function of the loss's text (with the globals and helpers it uses),
- * the values drawn, the η list and the number of samples, so they are memoised on exactly that.
- */
-const curveCache = new Map<string, LossCurves | { reason: string }>();
-
-function cachedCurves(key: string, make: () => LossCurves | { reason: string }): LossCurves | { reason: string } {
-  const hit = curveCache.get(key);
-  if (hit) {
-    curveCache.delete(key);
-    curveCache.set(key, hit);
-    // A copy: callers may annotate what they get without changing the cache.
-    return structuredClone(hit);
-  }
-  const made = make();
-  curveCache.set(key, made);
-  while (curveCache.size > CURVE_CACHE_SIZE) curveCache.delete(curveCache.keys().next().value!);
-  return structuredClone(made);
-}
-
-/**
  * Samples the curves of the losses in `doc` (all, or those named in `params.losses`) at their defaults
- * overridden by `params.overrides`. The result is plain JSON for the webview and the report.
+ * overridden by `params.overrides`, analysed at those values by the pipeline that analysed `doc` (the
+ * same settings; a fresh pipeline with the document's settings when none is given). The result is plain
+ * JSON for the webview and the report.
  */
-export function computeCurves(doc: DocumentAnalysis, params: CurvesParams): CurvesResult {
+export function computeCurves(doc: DocumentAnalysis, params: CurvesParams, pipeline: Pick<Pipeline, "analyseAt"> = createPipeline(doc.settings)): CurvesResult {
   const result: CurvesResult = { uri: params.uri, version: null, losses: [], skipped: [] };
   const wanted = params.losses ? new Set(params.losses) : null;
   const etas = normaliseEtas(params.etas);
@@ -80,8 +51,7 @@ export function computeCurves(doc: DocumentAnalysis, params: CurvesParams): Curv
     if (wanted && !wanted.has(name)) continue;
     try {
       const overrides = params.overrides?.[name] ?? {};
-      const key = [lossCacheKey(doc.text, doc.model, report.info), report.analysis?.verdict ?? "-", JSON.stringify(Object.entries(overrides).sort()), etas.join(","), points].join("\u0001");
-      const drawn = cachedCurves(key, () => curvesForLoss(report, overrides, etas, points));
+      const drawn = curvesForLoss(pipeline.analyseAt(doc, name, overrides), report, etas, points);
       if ("reason" in drawn) result.skipped.push({ loss: name, reason: drawn.reason });
       else result.losses.push(drawn);
     } catch (err) {
@@ -102,90 +72,21 @@ function normaliseEtas(etas: number[] | undefined): number[] {
   return [...new Set(list)].sort((a, b) => a - b).slice(0, MAX_ETAS);
 }
 
-/** The parameter values to draw: defaults, then overrides clamped to the declared ranges. */
-function resolveValues(family: LossFamily, overrides: Record<string, number>, notes: string[]): Record<string, number> {
-  const values: Record<string, number> = {};
-  for (const p of family.params) values[p.name] = p.default;
-  for (const [n, v] of Object.entries(overrides)) {
-    const p = family.params.find((x) => x.name === n);
-    if (!p) {
-      notes.push(`Slider value for unknown parameter \`${n}\` ignored.`);
-      continue;
-    }
-    if (!Number.isFinite(v)) {
-      notes.push(`Slider value ${fmt(v)} for \`${n}\` is not a finite number; the default ${fmt(p.default)} is used.`);
-      continue;
-    }
-    const lo = p.lo ?? -Infinity;
-    const hi = p.hi ?? Infinity;
-    const clamped = Math.min(hi, Math.max(lo, v));
-    if (clamped !== v) notes.push(`\`${n}\` = ${fmt(v)} is outside its declared range; clamped to ${fmt(clamped)}.`);
-    values[n] = clamped;
-  }
-  return values;
-}
-
-/** The same family with every parameter pinned to `values` and no ranges (so no range sweep runs). */
-function pinnedFamily(family: LossFamily, values: Record<string, number>): LossFamily {
-  return {
-    name: family.name,
-    form: family.form,
-    claims: family.claims,
-    params: family.params.map((p) => ({ name: p.name, default: values[p.name] ?? p.default })),
-    instantiate: (v) => family.instantiate(v),
-  };
-}
-
-function isOverridden(family: LossFamily, values: Record<string, number>): boolean {
-  return family.params.some((p) => values[p.name] !== p.default);
-}
-
-function curvesForLoss(report: LossReport, overrides: Record<string, number>, etas: number[], points: number): LossCurves | { reason: string } {
-  const compiled = report.compiled;
-  if (!compiled) {
-    return { reason: report.info.hasErrors ? "the loss has errors (see the diagnostics)" : "the loss could not be compiled" };
-  }
-  const family = compiled.family;
-  const notes: string[] = [];
-  const values = resolveValues(family, overrides, notes);
-  const overridden = isOverridden(family, values);
-
-  // The verdict: the document's analysis at the defaults; a pinned properness check at slider values
-  // (or when the document's analysis could not decide).
-  let verdict: LossCurves["verdict"] = overridden ? "unknown" : (report.analysis?.verdict ?? "unknown");
-  // At the defaults the document's analysis already holds the derived model (with H = L(η, η) for a proper
-  // loss) and its curvature; deriving again would evaluate H by a minimisation per point.
-  let fns: LossFunctions | null = overridden ? null : (report.analysis?.fns ?? null);
-  let reusedCurvature: CurvatureResult | null = overridden ? null : (report.analysis?.curvature ?? null);
+function curvesForLoss(at: PinnedAnalysis, report: LossReport, etas: number[], points: number): LossCurves | { reason: string } {
+  if (at.reason || !at.fns || !report.compiled) return { reason: at.reason ?? "the loss could not be compiled" };
+  const family = report.compiled.family;
+  const fns = at.fns;
+  const values = at.values;
+  const overridden = at.overridden;
+  const notes: string[] = [...at.notes, ...fns.notes];
+  const verdict: LossCurves["verdict"] = at.analysis?.verdict ?? "unknown";
   if (verdict === "unknown") {
-    reusedCurvature = null;
-    const p = analyseProperness(pinnedFamily(family, values), { deadlineMs: OVERRIDE_PROPERNESS_MS });
-    verdict = p.verdict;
-    fns = p.fns;
-    if (p.verdict === "unknown") {
-      const why = p.findings.find((f) => f.code === "analysis-unknown" || f.code === "internal-error");
-      notes.push(`Properness undecided at these values${why ? `: ${why.message}` : "."}`);
-    }
+    const why = at.analysis?.findings.find((f) => f.code === "analysis-unknown" || f.code === "internal-error");
+    notes.push(`Properness undecided at these values${why ? `: ${why.message}` : "."}`);
   }
-  if (!fns) {
-    let spec: LossSpec;
-    try {
-      spec = family.instantiate(values);
-    } catch (err) {
-      return { reason: `the loss could not be instantiated: ${err instanceof Error ? err.message : String(err)}` };
-    }
-    const derived = deriveLossFunctions(spec);
-    if (!derived.fns) {
-      const why = derived.findings[0]?.message ?? "the partial losses could not be derived";
-      return { reason: why };
-    }
-    fns = derived.fns;
-    for (const n of derived.fns.notes) notes.push(n);
-  }
-
-  // An improper loss gets only the curves of the loss itself: its curvature would describe a regret
-  // bound it does not have, and skipping that analysis keeps its sliders (J1: the focal loss) quick.
-  const curvature: CurvatureResult | null = verdict === "improper" ? null : (reusedCurvature ?? analyseCurvature(fns, { deadlineMs: CURVATURE_MS }));
+  // Curvature and bounds come from the engine's analysis at these values, which computes them only for a
+  // loss it found proper: an improper or undecided loss gets only the curves of the loss itself.
+  const curvature: CurvatureResult | null = at.analysis?.curvature ?? null;
   const set: CurveSet = curvature ? sampleCurves(fns, curvature, { points }) : sampleLossCurves(fns, points);
   // Notes about curves that are not drawn for an improper loss would only confuse.
   const improperLoss = verdict === "improper";
@@ -243,7 +144,7 @@ function curvesForLoss(report: LossReport, overrides: Record<string, number>, et
     exponentNote: curvature ? curvature.exponents.explanation : null,
     ...(curvature ? { units: { decisionRegret: curvature.units.decisionRegret, surrogateRegret: curvature.units.surrogateRegret } } : {}),
   };
-  const summary = !overridden && report.analysis && report.analysis.verdict !== "unknown" ? report.analysis.summary : `${verdictText(verdict)} · ${curvature ? curvature.summary : "no regret bound"}`;
+  const summary = at.analysis?.summary ?? `${verdictText(verdict)} · no regret bound`;
 
   return {
     loss: report.info.name,

@@ -1,6 +1,6 @@
 /** Folding ranges: loss blocks, multi-line helpers and parameters, and runs of two or more comment lines. */
 import type { Span } from "../issue.js";
-import type { DocumentAnalysis } from "./document.js";
+import type { DocumentAnalysis } from "../pipeline/stages.js";
 
 export interface FoldingRange {
   span: Span;

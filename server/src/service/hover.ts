@@ -10,7 +10,7 @@ import { showBest } from "../semantics/derived/pretty.js";
 import { bayesFromPartials, recoveryMap, savagePartials, weightFromPartials } from "../semantics/derived/savage.js";
 import { partialsFromWeight } from "../semantics/derived/weight-integral.js";
 import { negate, printExpr } from "../semantics/symbolic.js";
-import type { DocumentAnalysis, LossReport } from "./document.js";
+import type { DocumentAnalysis, LossReport } from "../pipeline/stages.js";
 import { clauseExpr, derivative } from "./code-actions.js";
 import { findClauseAt, findLossAt, findReferenceAt, touches } from "./navigation.js";
 

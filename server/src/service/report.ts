@@ -9,7 +9,7 @@
  */
 import type { CurvesResult, LossCurves } from "../protocol.js";
 import { computeCurves } from "./curves.js";
-import type { DocumentAnalysis, LossReport } from "./document.js";
+import type { DocumentAnalysis, LossReport } from "../pipeline/stages.js";
 import { escapeMarkup as escapeHtml, formatFigure } from "../display.js";
 
 export interface ReportOptions {

@@ -3,7 +3,7 @@
  * variable) and the clause names, which the TextMate grammar can only guess from their position.
  */
 import type { Span } from "../issue.js";
-import type { DocumentAnalysis } from "./document.js";
+import type { DocumentAnalysis } from "../pipeline/stages.js";
 
 /** Token types, in legend order (LSP standard names). */
 export const TOKEN_TYPES = ["class", "function", "parameter", "variable", "property", "keyword"] as const;

@@ -4,7 +4,7 @@
  */
 import { BUILTINS } from "../semantics/builtins.js";
 import { printExpr } from "../semantics/symbolic.js";
-import type { DocumentAnalysis } from "./document.js";
+import type { DocumentAnalysis } from "../pipeline/stages.js";
 
 export interface SignatureHelp {
   /** E.g. `min(a, b)`. */

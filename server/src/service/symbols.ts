@@ -2,7 +2,7 @@
 import type { Span } from "../issue.js";
 import { describeForm } from "../semantics/model.js";
 import { printExpr } from "../semantics/symbolic.js";
-import type { DocumentAnalysis } from "./document.js";
+import type { DocumentAnalysis } from "../pipeline/stages.js";
 
 export type SymbolKind = "loss" | "param" | "def" | "clause" | "expect";
 

@@ -18,6 +18,8 @@ import type { BinaryOp, Clause, CommentToken, DefDecl, Expr, FileNode, Item, Los
 export interface FormatOptions {
   /** Spaces per indentation level (default 2; clamped to 1..8). */
   indent?: number;
+  /** Indent with one tab per level instead of spaces (the editor's `insertSpaces: false`). */
+  tabs?: boolean;
 }
 
 /** Result of {@link formatDocument}. */
@@ -277,7 +279,7 @@ class FilePrinter {
   ) {
     this.tokens = new TokenIndex(text);
     const width = Math.min(8, Math.max(1, Math.floor(options.indent ?? 2)));
-    this.unit = " ".repeat(width);
+    this.unit = options.tabs ? "\t" : " ".repeat(width);
     this.eol = dominantEol(text);
   }
 

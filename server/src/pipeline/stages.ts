@@ -1,7 +1,9 @@
 /**
- * `analyseDocument(text)`: the whole pipeline for one document — parse, resolve, compile each loss, run
- * the engine, and turn every finding into an `Issue` with a source span. Never throws: a failing stage
- * becomes an `internal-error` issue on the item it was working on.
+ * The stages of the one analysis pipeline, each a pure function that never throws (a failing stage
+ * becomes an `internal-error` issue on the item it was working on):
+ * parse → resolve (`parseAndResolve`) → compile (`compileStage`) → analyse (`analyseStage`) → enrich
+ * (`enrichFindings`: findings become issues with source spans, plus the closed forms the engine cannot
+ * print). `pipeline.ts` sequences them and owns the caches; every consumer goes through it.
  */
 import { analyseFamily, type AnalyseOptions, type LossAnalysis } from "../analysis/analyse.js";
 import type { ClauseKey, Finding } from "../loss-model.js";
@@ -11,11 +13,13 @@ import { recoveryMap } from "../semantics/derived/savage.js";
 import { compileLoss, type CompiledLoss } from "../semantics/family.js";
 import { analyseSemantics, type ClauseName, type LossInfo, type SemanticModel } from "../semantics/model.js";
 import { parse, type ParseResult } from "../syntax/parse.js";
+import type { AnalysisSettings } from "../settings.js";
 
 export interface LossReport {
   info: LossInfo;
+  /** Null until compiled, and when the loss has errors that prevent compilation. */
   compiled: CompiledLoss | null;
-  /** Null when the loss has errors that prevent analysis (the issues say which). */
+  /** Null when the loss has not been analysed (yet), or has errors that prevent analysis (the issues say which). */
   analysis: LossAnalysis | null;
 }
 
@@ -26,15 +30,8 @@ export interface DocumentAnalysis {
   losses: LossReport[];
   /** All issues, in document order. */
   issues: Issue[];
-}
-
-export interface DocumentOptions extends AnalyseOptions {
-  /** Skip the numeric engine (syntax and semantics only), e.g. for the fast first pass while typing. */
-  skipAnalysis?: boolean;
-  /** Analyse at most this many losses (huge files); the rest get an information issue. */
-  maxAnalysedLosses?: number;
-  /** Reuse analyses by a cache key (see `lossCacheKey`). */
-  cache?: Map<string, LossAnalysis>;
+  /** The settings the document was analysed under. */
+  settings: Readonly<AnalysisSettings>;
 }
 
 /** Parsing and name resolution, the stages every analysis starts with; a failure becomes one internal-error issue. */
@@ -52,43 +49,48 @@ export function parseAndResolve(text: string): { parsed: ParseResult; model: Sem
   return { parsed, model, issues };
 }
 
-export function analyseDocument(text: string, options: DocumentOptions = {}): DocumentAnalysis {
-  const { parsed, model, issues } = parseAndResolve(text);
-  const losses: LossReport[] = [];
-  const limit = options.maxAnalysedLosses ?? Infinity;
-  for (const info of model.losses) {
-    const report: LossReport = { info, compiled: null, analysis: null };
-    losses.push(report);
-    try {
-      report.compiled = compileLoss(model, info, options.defaultThreshold !== undefined ? { defaultThreshold: options.defaultThreshold } : {});
-    } catch (err) {
-      issues.push(makeIssue("internal-error", `internal error while compiling \`${info.name}\`: ${String(err)}`, info.decl.name.span));
-      continue;
-    }
-    if (!report.compiled || options.skipAnalysis) continue;
-    if (losses.length > limit) {
-      if (losses.length === limit + 1) {
-        issues.push(makeIssue("analysis-unknown", `only the first ${limit} losses of this file are analysed`, info.decl.name.span, { severity: "information" }));
-      }
-      continue;
-    }
-    const key = options.cache ? lossCacheKey(text, model, info) : "";
-    try {
-      const cached = options.cache?.get(key);
-      report.analysis = cached ?? analyseFamily(report.compiled.family, options);
-      if (options.cache && !cached) options.cache.set(key, report.analysis);
-    } catch (err) {
-      issues.push(makeIssue("internal-error", `internal error while analysing \`${info.name}\`: ${String(err)}`, info.decl.name.span));
-      continue;
-    }
-    for (const f of report.analysis.findings) {
-      const issue = findingToIssue(f, info, model);
-      if (f.code === "posterior-recovery") addRecoveryFormula(issue, report.compiled);
-      issues.push(issue);
-    }
+/** A loss the engine can look at: no errors in it or in what it uses, and a primary form. */
+export function isAnalysable(r: LossReport): boolean {
+  return !r.info.hasErrors && r.info.form !== null;
+}
+
+/** The engine options of the settings (the threshold is read at compile time, the rest by the engine). */
+export function engineOptions(settings: Readonly<AnalysisSettings>, extra: { seed?: number; clock?: () => number } = {}): AnalyseOptions {
+  return { deadlineMs: settings.deadlineMs, gridResolution: settings.gridResolution, defaultThreshold: settings.defaultThreshold, ...extra };
+}
+
+/** Compiles one loss (once: the result is kept on the report). */
+export function compileStage(model: SemanticModel, r: LossReport, settings: Readonly<AnalysisSettings>): { ok: true } | { ok: false; issue: Issue } {
+  if (r.compiled) return { ok: true };
+  try {
+    r.compiled = compileLoss(model, r.info, { defaultThreshold: settings.defaultThreshold });
+    return { ok: true };
+  } catch (err) {
+    return { ok: false, issue: makeIssue("internal-error", `internal error while compiling \`${r.info.name}\`: ${String(err)}`, r.info.decl.name.span) };
   }
-  issues.sort((a, b) => a.span.start - b.span.start || a.span.end - b.span.end);
-  return { text, parse: parsed, model, losses, issues };
+}
+
+/** Runs the engine on a compiled loss; an exception becomes an internal-error issue on the loss. */
+export function analyseStage(r: LossReport, options: AnalyseOptions): { analysis: LossAnalysis | null } | { issue: Issue } {
+  if (!r.compiled) return { analysis: null };
+  try {
+    return { analysis: analyseFamily(r.compiled.family, options) };
+  } catch (err) {
+    return { issue: makeIssue("internal-error", `internal error while analysing \`${r.info.name}\`: ${String(err)}`, r.info.decl.name.span) };
+  }
+}
+
+/**
+ * The enrich stage: each finding of a loss's analysis becomes an `Issue` with a source span; a
+ * posterior-recovery finding gets its closed-form map when the partials allow it.
+ */
+export function enrichFindings(r: LossReport, model: SemanticModel): Issue[] {
+  if (!r.analysis) return [];
+  return r.analysis.findings.map((f) => {
+    const issue = findingToIssue(f, r.info, model);
+    if (f.code === "posterior-recovery" && r.compiled) addRecoveryFormula(issue, r.compiled);
+    return issue;
+  });
 }
 
 /**
@@ -154,4 +156,8 @@ export function findingToIssue(f: Finding, info: LossInfo, model: SemanticModel)
   else extra.data = { loss: info.name };
   if (f.related) extra.related = f.related.map((r) => ({ span: clauseSpan(r.clause, info, model), message: r.message }));
   return makeIssue(f.code, f.message, clauseSpan(f.clause, info, model), extra);
+}
+
+export function byPosition(a: Issue, b: Issue): number {
+  return a.span.start - b.span.start || a.span.end - b.span.end;
 }
