@@ -2,29 +2,33 @@
  * JAX emitter: `jax.numpy` and `jax.nn` only, jit-safe (piecewise definitions become `jnp.where`; the only
  * Python branches test `weight is None` and the static `reduction` string). Gradients come from `jax.grad`.
  */
-import { emitPythonModule, type EmitInput, type PyDialect, type PyTarget } from "./emit-python-common.js";
+import { emitPythonModule, pythonDialect, type EmitInput, type PyTarget } from "./emit-python-common.js";
 import { sanitiseName } from "./names.js";
+import { helperCall } from "./print.js";
 
-const dialect: PyDialect = {
+const SPECIAL = ["jax.scipy.special"];
+
+/** The printer's dialect for jax. */
+export const JAX_DIALECT = pythonDialect({
   lib: "jnp",
   calls: {
-    sigmoid: { print: ([a]) => `jax.nn.sigmoid(${a})` },
-    softplus: { print: ([a]) => `jax.nn.softplus(${a})` },
-    asin: { print: ([a]) => `jnp.arcsin(${a})` },
-    acos: { print: ([a]) => `jnp.arccos(${a})` },
-    atan: { print: ([a]) => `jnp.arctan(${a})` },
-    erf: { print: ([a]) => `jax.scipy.special.erf(${a})`, helper: "jax.scipy.special" },
-    normcdf: { print: ([a]) => `jax.scipy.special.ndtr(${a})`, helper: "jax.scipy.special" },
-    probit: { print: ([a]) => `jax.scipy.special.ndtri(${a})`, helper: "jax.scipy.special" },
+    sigmoid: "jax.nn.sigmoid",
+    softplus: "jax.nn.softplus",
+    asin: "jnp.arcsin",
+    acos: "jnp.arccos",
+    atan: "jnp.arctan",
+    erf: helperCall("jax.scipy.special.erf", SPECIAL),
+    normcdf: helperCall("jax.scipy.special.ndtr", SPECIAL),
+    probit: helperCall("jax.scipy.special.ndtri", SPECIAL),
+    min: "jnp.minimum",
+    max: "jnp.maximum",
   },
   where: (c, a, b) => `jnp.where(${c}, ${a}, ${b})`,
-  minimum: (a, b) => `jnp.minimum(${a}, ${b})`,
-  maximum: (a, b) => `jnp.maximum(${a}, ${b})`,
-};
+});
 
 const target: PyTarget = {
   target: "jax",
-  dialect,
+  dialect: JAX_DIALECT,
   imports: ["import jax", "import jax.numpy as jnp"],
   notes: ['JAX: jit with the reduction static, e.g. jax.jit(f, static_argnames="reduction"); differentiate with jax.grad.'],
   asArray: (p) => `jnp.asarray(${p})`,

@@ -2,26 +2,28 @@
  * NumPy emitter: vectorised (`np.where`, `np.logaddexp` for softplus), computing in float64, with a
  * closed-form gradient `<name>_grad` from the symbolic derivative.
  */
-import { emitPythonModule, type EmitInput, type PyDialect, type PyTarget } from "./emit-python-common.js";
+import { emitPythonModule, pythonDialect, type EmitInput, type PyTarget } from "./emit-python-common.js";
 import { sanitiseName } from "./names.js";
+import { helperCall } from "./print.js";
 
-const dialect: PyDialect = {
+/** The printer's dialect for numpy. */
+export const NUMPY_DIALECT = pythonDialect({
   lib: "np",
   calls: {
-    sigmoid: { print: ([a]) => `_sigmoid(${a})`, helper: "_sigmoid" },
+    sigmoid: helperCall("_sigmoid", ["_sigmoid"]),
     // softplus(x) = log(e^0 + e^x), which np.logaddexp evaluates without overflow.
     softplus: { print: ([a]) => `np.logaddexp(0.0, ${a})` },
-    asin: { print: ([a]) => `np.arcsin(${a})` },
-    acos: { print: ([a]) => `np.arccos(${a})` },
-    atan: { print: ([a]) => `np.arctan(${a})` },
-    erf: { print: ([a]) => `_erf(${a})`, helper: "_erf" },
-    normcdf: { print: ([a]) => `_normcdf(${a})`, helper: "_normcdf" },
-    probit: { print: ([a]) => `_probit(${a})`, helper: "_probit" },
+    asin: "np.arcsin",
+    acos: "np.arccos",
+    atan: "np.arctan",
+    erf: helperCall("_erf", ["_erf"]),
+    normcdf: helperCall("_normcdf", ["_normcdf"]),
+    probit: helperCall("_probit", ["_probit"]),
+    min: "np.minimum",
+    max: "np.maximum",
   },
   where: (c, a, b) => `np.where(${c}, ${a}, ${b})`,
-  minimum: (a, b) => `np.minimum(${a}, ${b})`,
-  maximum: (a, b) => `np.maximum(${a}, ${b})`,
-};
+});
 
 const HELPERS: Record<string, string[]> = {
   _sigmoid: [
@@ -49,7 +51,7 @@ const HELPERS: Record<string, string[]> = {
 
 const target: PyTarget = {
   target: "numpy",
-  dialect,
+  dialect: NUMPY_DIALECT,
   imports: ["import numpy as np"],
   notes: ["NumPy: inputs are converted to float64 arrays; <name>_grad gives the gradient in closed form."],
   asArray: (p) => `np.asarray(${p}, dtype=float)`,

@@ -1,24 +1,24 @@
 /**
- * What the three Python emitters (PyTorch, JAX, NumPy) share: an expression printer over a per-library
- * dialect (function names, elementwise `where`, min/max, logical operators), number literals, comment
- * blocks and the module skeleton. Pure: model in, text out.
+ * What the three Python emitters (PyTorch, JAX, NumPy) share: the Python dialect of the expression printer
+ * (`print.ts`) over a per-library part (function names, elementwise `where`, min/max), number literals,
+ * comment blocks and the module skeleton. Pure: model in, text out.
  */
 import type { Expr } from "../syntax/ast.js";
 import { CLAMP_EPS as CLAMP_EPS_VALUE, lossHeaderLines as lossHeaderLinesFor, type LoweredLoss } from "./model.js";
+import { PREC, printExpr, type Dialect, type Spelling } from "./print.js";
 
-export interface PyDialect {
-  /** Library prefix for the common elementwise functions (`torch`, `jnp`, `np`). */
+/** The per-library part of a Python dialect (`torch`, `jnp`, `np`). */
+export interface PyLibrary {
+  /** Library prefix for the common elementwise functions and the logical functions. */
   lib: string;
-  /** Special call spellings, by notation name; `args` are printed arguments; `helper` names a module-level helper it needs. */
-  calls: Record<string, { print: (args: string[], raw: Expr[]) => string; helper?: string }>;
+  /** Special spellings by notation name (they take precedence over `<lib>.<name>`), `min` and `max` among them. */
+  calls: Record<string, Spelling>;
   /** Elementwise select; `variable` is the array in scope (for broadcasting constant branches). */
   where(cond: string, a: string, b: string, rawA: Expr, rawB: Expr, variable: string): string;
-  minimum(a: string, b: string, rawA: Expr, rawB: Expr): string;
-  maximum(a: string, b: string, rawA: Expr, rawB: Expr): string;
 }
 
-/** Python precedence levels used by the printer (higher binds tighter). */
-const LEVEL = { or: 1, and: 2, not: 3, cmp: 4, add: 5, mul: 6, unary: 7, pow: 8, atom: 9 } as const;
+/** A Python dialect of the printer, with the library prefix the module skeleton needs. */
+export type PyDialect = Dialect & { lib: string };
 
 /** A Python float literal that round-trips (shortest repr, as JavaScript's String gives). */
 export function pyNumber(v: number): string {
@@ -28,76 +28,24 @@ export function pyNumber(v: number): string {
   return String(v);
 }
 
+/** Elementwise functions every array library spells `<lib>.<name>`, by notation name. */
 const SIMPLE: Record<string, string> = {
   ln: "log", log: "log", log2: "log2", log10: "log10", exp: "exp", sqrt: "sqrt", abs: "abs", sin: "sin", cos: "cos",
   tan: "tan", sinh: "sinh", cosh: "cosh", tanh: "tanh", log1p: "log1p", expm1: "expm1",
 };
 
-/** Prints an expression as Python over the dialect; records the helpers it needs in `used`. */
-export function printPython(e: Expr, d: PyDialect, variable: string, used: Set<string>): string {
-  const p = (x: Expr, ctx: number): string => {
-    const [s, level] = go(x);
-    return level < ctx ? `(${s})` : s;
+/** The printer's dialect for one array library: `**`, elementwise logical functions and select, `<lib>.<name>` calls. */
+export function pythonDialect(l: PyLibrary): PyDialect {
+  return {
+    name: l.lib,
+    lib: l.lib,
+    number: pyNumber,
+    power: { infix: "**" },
+    logic: { kind: "function", and: `${l.lib}.logical_and`, or: `${l.lib}.logical_or`, not: `${l.lib}.logical_not` },
+    conditional: l.where,
+    prefixOperand: PREC.unary,
+    calls: { ...Object.fromEntries(Object.entries(SIMPLE).map(([k, v]) => [k, `${l.lib}.${v}`])), ...l.calls },
   };
-  const go = (x: Expr): [string, number] => {
-    switch (x.kind) {
-      case "number":
-        return [pyNumber(x.value), x.value < 0 || Object.is(x.value, -0) ? LEVEL.unary : LEVEL.atom];
-      case "name":
-        return [x.name, LEVEL.atom];
-      case "paren":
-        return go(x.inner);
-      case "unary":
-        if (x.op === "not") return [`${d.lib}.logical_not(${p(x.operand, 0)})`, LEVEL.atom];
-        return [`${x.op}${p(x.operand, LEVEL.unary)}`, LEVEL.unary];
-      case "binary": {
-        switch (x.op) {
-          case "and":
-          case "or":
-            return [`${d.lib}.logical_${x.op}(${p(x.left, 0)}, ${p(x.right, 0)})`, LEVEL.atom];
-          case "<":
-          case "<=":
-          case ">":
-          case ">=":
-            return [`${p(x.left, LEVEL.cmp + 1)} ${x.op} ${p(x.right, LEVEL.cmp + 1)}`, LEVEL.cmp];
-          case "+":
-          case "-":
-            return [`${p(x.left, LEVEL.add)} ${x.op} ${p(x.right, LEVEL.add + 1)}`, LEVEL.add];
-          case "*":
-          case "/":
-            return [`${p(x.left, LEVEL.mul)} ${x.op} ${p(x.right, LEVEL.mul + 1)}`, LEVEL.mul];
-          case "^":
-            // Python's ** is right-associative and binds tighter than a unary minus on its left only.
-            return [`${p(x.left, LEVEL.atom)} ** ${p(x.right, LEVEL.unary)}`, LEVEL.pow];
-        }
-        break;
-      }
-      case "if":
-        return [d.where(p(x.cond, 0), p(x.then, 0), p(x.else, 0), x.then, x.else, variable), LEVEL.atom];
-      case "call": {
-        const args = x.args.map((a) => p(a, 0));
-        const special = d.calls[x.callee];
-        if (special) {
-          if (special.helper) used.add(special.helper);
-          return [special.print(args, x.args), LEVEL.atom];
-        }
-        if (x.callee === "min") return [d.minimum(args[0]!, args[1]!, x.args[0]!, x.args[1]!), LEVEL.atom];
-        if (x.callee === "max") return [d.maximum(args[0]!, args[1]!, x.args[0]!, x.args[1]!), LEVEL.atom];
-        if (x.callee === "pow") return [`${p(x.args[0]!, LEVEL.atom)} ** ${p(x.args[1]!, LEVEL.unary)}`, LEVEL.pow];
-        if (x.callee === "logit") {
-          // logit(u) = ln(u) − ln(1 − u), the second term through log1p for accuracy near u = 0.
-          return [`${d.lib}.log(${args[0]}) - ${d.lib}.log1p(-${p(x.args[0]!, LEVEL.unary)})`, LEVEL.add];
-        }
-        const simple = SIMPLE[x.callee];
-        if (simple) return [`${d.lib}.${simple}(${args.join(", ")})`, LEVEL.atom];
-        throw new Error(`no ${d.lib} spelling for \`${x.callee}\``);
-      }
-      case "error":
-        throw new Error("cannot print an expression with a syntax error");
-    }
-    throw new Error("unreachable");
-  };
-  return p(e, 0);
 }
 
 /** Prints an expression so it can stand as a factor of a product (parenthesised unless atomic). */
@@ -237,8 +185,8 @@ export function emitPythonModule(input: EmitInput, t: PyTarget, sanitise: (n: st
     const arr = t.asArray("pred");
     out.push(`    ${v} = ${loss.clamp ? t.clamp(arr, clampBound(loss.clamp.lo, "lo"), clampBound(loss.clamp.hi, "hi")) : arr}`);
     out.push(`    y = ${t.labels("target", v)}`);
-    const pos = printPython(loss.pos, t.dialect, v, used);
-    const neg = printPython(loss.neg, t.dialect, v, used);
+    const pos = printExpr(loss.pos, t.dialect, used, v);
+    const neg = printExpr(loss.neg, t.dialect, used, v);
     out.push(`    loss = y * ${asFactor(pos)} + (1 - y) * ${asFactor(neg)}`);
     out.push("    return _reduce(loss, weight, reduction)");
     if (t.gradients) {
@@ -252,8 +200,8 @@ export function emitPythonModule(input: EmitInput, t: PyTarget, sanitise: (n: st
       out.push(`    raw = ${t.asArray("pred")}`);
       out.push(`    ${v} = ${loss.clamp ? t.clamp("raw", clampBound(loss.clamp.lo, "lo"), clampBound(loss.clamp.hi, "hi")) : "raw"}`);
       out.push(`    y = ${t.labels("target", v)}`);
-      const dpos = printPython(loss.dpos, t.dialect, v, used);
-      const dneg = printPython(loss.dneg, t.dialect, v, used);
+      const dpos = printExpr(loss.dpos, t.dialect, used, v);
+      const dneg = printExpr(loss.dneg, t.dialect, used, v);
       out.push(`    grad = y * ${asFactor(dpos)} + (1 - y) * ${asFactor(dneg)}`);
       if (loss.clamp) out.push(`    grad = ${t.dialect.lib}.where(raw == ${v}, grad, 0.0)`);
       out.push("    return _reduce_grad(grad, weight, reduction)");
@@ -269,7 +217,7 @@ export function emitPythonModule(input: EmitInput, t: PyTarget, sanitise: (n: st
       const arr2 = t.asArray("q");
       const rc = loss.recover.clamp;
       out.push(`    q = ${rc ? t.clamp(arr2, clampBound(rc.lo, "lo"), clampBound(rc.hi, "hi")) : arr2}`);
-      out.push(`    return ${printPython(loss.recover.expr, t.dialect, "q", used)}`);
+      out.push(`    return ${printExpr(loss.recover.expr, t.dialect, used, "q")}`);
     }
     bodies.push(out);
   });

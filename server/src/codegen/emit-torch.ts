@@ -3,33 +3,35 @@
  * `torch.where`), so autograd gives the gradient; no closed-form gradient is emitted for this target.
  */
 import type { Expr } from "../syntax/ast.js";
-import { emitPythonModule, pyNumber, type EmitInput, type PyDialect, type PyTarget } from "./emit-python-common.js";
+import { emitPythonModule, pythonDialect, pyNumber, type EmitInput, type PyTarget } from "./emit-python-common.js";
 import { sanitiseName } from "./names.js";
 
 const isNumber = (e: Expr): e is Extract<Expr, { kind: "number" }> => e.kind === "number";
 
-const dialect: PyDialect = {
+/** The printer's dialect for torch. */
+export const TORCH_DIALECT = pythonDialect({
   lib: "torch",
   calls: {
-    sigmoid: { print: ([a]) => `torch.sigmoid(${a})` },
-    softplus: { print: ([a]) => `torch.nn.functional.softplus(${a})` },
-    asin: { print: ([a]) => `torch.asin(${a})` },
-    acos: { print: ([a]) => `torch.acos(${a})` },
-    atan: { print: ([a]) => `torch.atan(${a})` },
-    erf: { print: ([a]) => `torch.erf(${a})` },
+    sigmoid: "torch.sigmoid",
+    softplus: "torch.nn.functional.softplus",
+    asin: "torch.asin",
+    acos: "torch.acos",
+    atan: "torch.atan",
+    erf: "torch.erf",
     // Φ(x) = erfc(−x/√2)/2: torch.special.ndtr loses ~1e-10 relative accuracy in the lower tail (measured at x = −6).
     normcdf: { print: ([a]) => `(0.5 * torch.special.erfc(-(${a}) * 0.7071067811865476))` },
-    probit: { print: ([a]) => `torch.special.ndtri(${a})` },
+    probit: "torch.special.ndtri",
+    // A constant bound becomes torch.clamp (torch.minimum/maximum want tensors on both sides).
+    min: { print: ([a, b], [ra, rb]) => (isNumber(rb!) ? `torch.clamp(${a}, max=${pyNumber(rb.value)})` : isNumber(ra!) ? `torch.clamp(${b}, max=${pyNumber(ra.value)})` : `torch.minimum(${a}, ${b})`) },
+    max: { print: ([a, b], [ra, rb]) => (isNumber(rb!) ? `torch.clamp(${a}, min=${pyNumber(rb.value)})` : isNumber(ra!) ? `torch.clamp(${b}, min=${pyNumber(ra.value)})` : `torch.maximum(${a}, ${b})`) },
   },
   // Constant branches are broadcast to the input's shape and dtype (torch.where wants tensors).
   where: (c, a, b, ra, rb, v) => `torch.where(${c}, ${isNumber(ra) ? `torch.full_like(${v}, ${a})` : a}, ${isNumber(rb) ? `torch.full_like(${v}, ${b})` : b})`,
-  minimum: (a, b, ra, rb) => (isNumber(rb) ? `torch.clamp(${a}, max=${pyNumber(rb.value)})` : isNumber(ra) ? `torch.clamp(${b}, max=${pyNumber(ra.value)})` : `torch.minimum(${a}, ${b})`),
-  maximum: (a, b, ra, rb) => (isNumber(rb) ? `torch.clamp(${a}, min=${pyNumber(rb.value)})` : isNumber(ra) ? `torch.clamp(${b}, min=${pyNumber(ra.value)})` : `torch.maximum(${a}, ${b})`),
-};
+});
 
 const target: PyTarget = {
   target: "torch",
-  dialect,
+  dialect: TORCH_DIALECT,
   imports: ["import torch"],
   notes: ["PyTorch: differentiate with autograd (loss.backward()); pred and target are tensors of the same shape."],
   asArray: (p) => `torch.as_tensor(${p})`,

@@ -8,17 +8,14 @@ import type { Expr } from "../syntax/ast.js";
 import type { EmitInput } from "./emit-python-common.js";
 import { CLAMP_EPS, lossHeaderLines, type LoweredLoss } from "./model.js";
 import { tsFunctionName } from "./names.js";
+import { helperCall, PREC, printExpr, type Dialect } from "./print.js";
 
-/** TypeScript precedence levels used by the printer (higher binds tighter). */
-const LEVEL = { cond: 1, or: 2, and: 3, cmp: 5, add: 6, mul: 7, unary: 8, atom: 10 } as const;
-
+/** Functions of `Math`, by notation name. */
 const MATH: Record<string, string> = {
   ln: "log", log: "log", log2: "log2", log10: "log10", exp: "exp", sqrt: "sqrt", abs: "abs", sin: "sin", cos: "cos",
   tan: "tan", asin: "asin", acos: "acos", atan: "atan", sinh: "sinh", cosh: "cosh", tanh: "tanh", log1p: "log1p",
-  expm1: "expm1", min: "min", max: "max", pow: "pow",
+  expm1: "expm1", min: "min", max: "max",
 };
-
-const HELPER_CALLS = new Set(["softplus", "sigmoid", "erf", "normcdf", "probit"]);
 
 /** A TypeScript number literal that round-trips. */
 export function tsNumber(v: number): string {
@@ -28,69 +25,29 @@ export function tsNumber(v: number): string {
   return String(v);
 }
 
+/** The printer's TypeScript dialect: scalars, `Math.pow`, `&&`/`||`/`!`, the ternary, `Math.*` and the module's helpers. */
+export const TS_DIALECT: Dialect = {
+  name: "TypeScript",
+  number: tsNumber,
+  power: { fn: "Math.pow" },
+  logic: { kind: "operator", and: "&&", or: "||", not: "!" },
+  conditional: "ternary",
+  // An operand that itself starts with a sign is parenthesised, so `- -x` never prints as `--x`.
+  prefixOperand: PREC.pow,
+  calls: {
+    ...Object.fromEntries(Object.entries(MATH).map(([k, v]) => [k, `Math.${v}`])),
+    softplus: helperCall("softplus", ["softplus"]),
+    sigmoid: helperCall("sigmoid", ["sigmoid"]),
+    // erf and erfc call each other; normcdf uses both; probit refines through normcdf.
+    erf: helperCall("erf", ["erf", "erfc"]),
+    normcdf: helperCall("normcdf", ["normcdf", "erf", "erfc"]),
+    probit: helperCall("probit", ["probit", "erf", "erfc", "normcdf"]),
+  },
+};
+
 /** Prints an expression as TypeScript over scalars; records the helpers it needs in `used`. */
 export function printTs(e: Expr, used: Set<string>): string {
-  const p = (x: Expr, ctx: number): string => {
-    const [s, level] = go(x);
-    return level < ctx ? `(${s})` : s;
-  };
-  const go = (x: Expr): [string, number] => {
-    switch (x.kind) {
-      case "number":
-        return [tsNumber(x.value), x.value < 0 || Object.is(x.value, -0) ? LEVEL.unary : LEVEL.atom];
-      case "name":
-        return [x.name, LEVEL.atom];
-      case "paren":
-        return go(x.inner);
-      case "unary": {
-        if (x.op === "not") return [`!${p(x.operand, LEVEL.unary + 1)}`, LEVEL.unary];
-        // An operand that itself starts with a sign is parenthesised, so `- -x` never prints as `--x`.
-        return [`${x.op}${p(x.operand, LEVEL.unary + 1)}`, LEVEL.unary];
-      }
-      case "binary":
-        switch (x.op) {
-          case "and": return [`${p(x.left, LEVEL.and)} && ${p(x.right, LEVEL.and + 1)}`, LEVEL.and];
-          case "or": return [`${p(x.left, LEVEL.or)} || ${p(x.right, LEVEL.or + 1)}`, LEVEL.or];
-          case "<":
-          case "<=":
-          case ">":
-          case ">=":
-            return [`${p(x.left, LEVEL.cmp + 1)} ${x.op} ${p(x.right, LEVEL.cmp + 1)}`, LEVEL.cmp];
-          case "+":
-          case "-":
-            return [`${p(x.left, LEVEL.add)} ${x.op} ${p(x.right, LEVEL.add + 1)}`, LEVEL.add];
-          case "*":
-          case "/":
-            return [`${p(x.left, LEVEL.mul)} ${x.op} ${p(x.right, LEVEL.mul + 1)}`, LEVEL.mul];
-          case "^":
-            return [`Math.pow(${p(x.left, 0)}, ${p(x.right, 0)})`, LEVEL.atom];
-        }
-        break;
-      case "if":
-        return [`${p(x.cond, LEVEL.or)} ? ${p(x.then, LEVEL.cond)} : ${p(x.else, LEVEL.cond)}`, LEVEL.cond];
-      case "call": {
-        const args = x.args.map((a) => p(a, 0));
-        if (x.callee === "logit") {
-          // logit(u) = ln(u) − ln(1 − u), the second term through log1p for accuracy near u = 0.
-          return [`Math.log(${args[0]}) - Math.log1p(-${p(x.args[0]!, LEVEL.unary + 1)})`, LEVEL.add];
-        }
-        if (HELPER_CALLS.has(x.callee)) {
-          used.add(x.callee);
-          // erf and erfc call each other; normcdf uses both; probit refines through normcdf.
-          if (x.callee === "erf" || x.callee === "normcdf" || x.callee === "probit") used.add("erf").add("erfc");
-          if (x.callee === "probit") used.add("normcdf");
-          return [`${x.callee}(${args.join(", ")})`, LEVEL.atom];
-        }
-        const m = MATH[x.callee];
-        if (m) return [`Math.${m}(${args.join(", ")})`, LEVEL.atom];
-        throw new Error(`no TypeScript spelling for \`${x.callee}\``);
-      }
-      case "error":
-        throw new Error("cannot print an expression with a syntax error");
-    }
-    throw new Error("unreachable");
-  };
-  return p(e, 0);
+  return printExpr(e, TS_DIALECT, used);
 }
 
 const HELPERS: Record<string, string[]> = {
