@@ -1,0 +1,153 @@
+/**
+ * The sampled model the properness searches work on: the partial losses tabulated on a scan grid (a
+ * uniform grid, geometric points near both endpoints and seeded random points), extended by points on
+ * both sides of every jump located inside a grid cell.
+ */
+import type { LossFunctions } from "../loss-model.js";
+import { probabilityGrid, seededRandom } from "./numeric/sampling.js";
+import type { RiskTable } from "./recovery.js";
+import { safeCall } from "./margin.js";
+
+/**
+ * Relative tolerance of a risk gap L(η,η) − L(η,q), scaled by 1 + |η·l1(η)| + |(1−η)·l0(η)|. Risks are
+ * sums of two closure values, and derived forms (tabulated integrals, bisection links) are accurate to
+ * ~1e-11 relative, so 1e-9 is two orders above noise and still catches gaps of 1e-8 on O(1) losses.
+ */
+export const RISK_TOL = 1e-9;
+/**
+ * Tighter gap tolerance for losses whose partial losses are the user's closures evaluated directly
+ * ("partials", "score-partials"): only rounding (~1e-16 relative) separates L(η,q) from its true value.
+ */
+export const RISK_TOL_DIRECT = 1e-10;
+/** Scan grids for Bayes-risk losses without a closed-form H' stop this far from the endpoints, where differences of H lose all accuracy. */
+export const NUMERIC_DERIVATIVE_EDGE_EXPONENT = 5;
+
+/** The sampled model: a table of the partial losses on the scan grid. */
+export interface Table extends RiskTable {
+  /** Indices of interior points (0 < q < 1). */
+  interior: boolean[];
+  /** Relative gap tolerance for this loss (RISK_TOL or RISK_TOL_DIRECT). */
+  tol: number;
+  /** Relative variation tolerance for flat intervals. */
+  flatTol: number;
+}
+
+/** The scan grid: a uniform grid with geometric points near both endpoints, both endpoints, and seeded random points. */
+export function buildGrid(resolution: number, seed: number, edgeExponent = 10): number[] {
+  const rnd = seededRandom(seed);
+  const pts = new Set<number>(probabilityGrid(resolution, edgeExponent));
+  pts.add(0);
+  pts.add(1);
+  // Seeded random points break any alignment between the grid and kinks or bumps of the loss.
+  const extra = Math.max(8, Math.floor(resolution / 8));
+  for (let i = 0; i < extra; i++) pts.add(rnd());
+  return [...pts].sort((a, b) => a - b);
+}
+
+/** The partial losses evaluated on the grid `qs` (a throwing or non-finite closure gives NaN). */
+export function buildTable(fns: LossFunctions, qs: number[], tol: number, flatTol: number): Table {
+  return {
+    tol,
+    flatTol,
+    qs,
+    l1: qs.map((q) => safeCall(fns.l1, q)),
+    l0: qs.map((q) => safeCall(fns.l0, q)),
+    interior: qs.map((q) => q > 0 && q < 1),
+  };
+}
+
+/** Halvings used to test every grid cell for a jump: a jump keeps its size while smooth deviations shrink by 2^-k. */
+export const JUMP_PROBE_HALVINGS = 10;
+/** A cell holds a jump when its deviation from the neighbours' slope keeps at least this fraction of its size after the probe halvings. */
+export const JUMP_PERSIST_FRACTION = 0.25;
+/** At most this many jumps per partial loss are located and sampled around (piecewise losses have a handful). */
+export const MAX_JUMPS = 16;
+/** Offsets around a located jump at which extra points are sampled (both sides). */
+export const JUMP_OFFSETS: readonly number[] = [1e-10, 1e-7, 1e-5, 1e-4, 1e-3, 2.5e-3];
+
+/**
+ * Locates discontinuities of l1 and l0 inside grid cells and returns extra sample points on both sides
+ * of each, so small jumps between grid points (which make a loss improper right next to the diagonal)
+ * are sampled. The smooth part is predicted from the neighbouring cells' slope; each cell is halved
+ * towards the half that deviates most from that prediction. A jump keeps its deviation at every level,
+ * a smooth change loses it in proportion to the width.
+ */
+export function jumpPoints(fns: LossFunctions, t: Table, deadline: number): number[] {
+  const extra: number[] = [];
+  const n = t.qs.length;
+  for (const [vals, f] of [[t.l1, fns.l1], [t.l0, fns.l0]] as const) {
+    const slope = (i: number) => {
+      if (i < 0 || i + 1 >= n || !t.interior[i] || !t.interior[i + 1]) return NaN;
+      return (vals[i + 1]! - vals[i]!) / (t.qs[i + 1]! - t.qs[i]!);
+    };
+    let found = 0;
+    for (let j = 0; j + 1 < n && found < MAX_JUMPS; j++) {
+      // Past the deadline the probe stops; the search that follows reports the time-out.
+      if ((j & 15) === 0 && Date.now() > deadline) return extra;
+      if (!t.interior[j] || !t.interior[j + 1]) continue;
+      let lo = t.qs[j]!;
+      let hi = t.qs[j + 1]!;
+      let flo = vals[j]!;
+      let fhi = vals[j + 1]!;
+      if (!Number.isFinite(flo) || !Number.isFinite(fhi)) continue;
+      const sides = [slope(j - 1), slope(j + 1)].filter(Number.isFinite);
+      if (sides.length === 0) continue;
+      const sbar = sides.reduce((x, y) => x + y, 0) / sides.length;
+      const dev = (a: number, b: number, fa: number, fb: number) => Math.abs(fb - fa - sbar * (b - a));
+      const cellDev = dev(lo, hi, flo, fhi);
+      const floor = 1e-12 * (1 + Math.abs(flo) + Math.abs(fhi));
+      if (!(cellDev > floor)) continue;
+      let ok = true;
+      for (let k = 0; k < 60 && hi - lo > 1e-15; k++) {
+        if (k === JUMP_PROBE_HALVINGS && !(dev(lo, hi, flo, fhi) > Math.max(floor, JUMP_PERSIST_FRACTION * cellDev))) {
+          ok = false;
+          break;
+        }
+        const m = 0.5 * (lo + hi);
+        const fm = safeCall(f, m);
+        if (!Number.isFinite(fm)) {
+          ok = false;
+          break;
+        }
+        if (dev(lo, m, flo, fm) >= dev(m, hi, fm, fhi)) {
+          hi = m;
+          fhi = fm;
+        } else {
+          lo = m;
+          flo = fm;
+        }
+      }
+      if (!ok) continue;
+      const c = 0.5 * (lo + hi);
+      found++;
+      extra.push(lo, hi);
+      for (const d of JUMP_OFFSETS) {
+        if (c - d > 0) extra.push(c - d);
+        if (c + d < 1) extra.push(c + d);
+      }
+    }
+  }
+  return extra;
+}
+
+/** The table extended by extra points (merged in order, values evaluated once). */
+export function extendTable(fns: LossFunctions, t: Table, extra: number[]): Table {
+  if (extra.length === 0) return t;
+  const qs = [...new Set([...t.qs, ...extra])].sort((a, b) => a - b);
+  return buildTable(fns, qs, t.tol, t.flatTol);
+}
+
+/** Risk from the table, NaN when a needed value is not finite. */
+export function tableRisk(t: Table, eta: number, j: number): number {
+  const a = eta === 0 ? 0 : eta * t.l1[j]!;
+  const b = eta === 1 ? 0 : (1 - eta) * t.l0[j]!;
+  const r = a + b;
+  return Number.isFinite(r) ? r : NaN;
+}
+
+/** The absolute gap tolerance at η: `rel` scaled by the size of the two terms of L(η, η). */
+export function riskTol(fns: LossFunctions, eta: number, rel: number): number {
+  const a = eta === 0 ? 0 : Math.abs(eta * safeCall(fns.l1, eta));
+  const b = eta === 1 ? 0 : Math.abs((1 - eta) * safeCall(fns.l0, eta));
+  return rel * (1 + a + b);
+}
