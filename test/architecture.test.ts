@@ -3,12 +3,13 @@
  * semantics, analysis, codegen, service and the shared modules) never touches the editor, the LSP
  * connection, the file system, the process or the console, and lower layers never import higher ones.
  */
-import { readdirSync, readFileSync, statSync } from "node:fs";
+import { existsSync, readdirSync, readFileSync, statSync } from "node:fs";
 import { join, relative } from "node:path";
 import { describe, expect, it } from "vitest";
 
 function sources(dir: string): string[] {
   const out: string[] = [];
+  if (!existsSync(dir)) return out;
   for (const name of readdirSync(dir)) {
     const p = join(dir, name);
     if (statSync(p).isDirectory()) out.push(...sources(p));
@@ -17,13 +18,21 @@ function sources(dir: string): string[] {
   return out;
 }
 
-const CORE = ["grammar", "server/src/syntax", "server/src/semantics", "server/src/analysis", "server/src/codegen", "server/src/service"];
-const SHARED = ["server/src/issue.ts", "server/src/issues.ts", "server/src/loss-model.ts", "server/src/protocol.ts", "server/src/display.ts", "server/src/version.ts"];
+const CORE = ["grammar", "server/src/syntax", "server/src/semantics", "server/src/analysis", "server/src/pipeline", "server/src/codegen", "server/src/products", "server/src/service"];
+/** Leaf modules shared by the server, the client and the webview: they import nothing, or only each other. */
+const SHARED = ["server/src/issue.ts", "server/src/issues.ts", "server/src/loss-model.ts", "server/src/protocol.ts", "server/src/display.ts", "server/src/version.ts", "server/src/settings.ts"];
+/** The shared modules the client bundles may import (plain data and wording; no analysis). */
+const CLIENT_SHARED = /server\/src\/(protocol|display|version|settings)\.js$/;
 const coreFiles = [...CORE.flatMap(sources), ...SHARED];
 
 /** Import specifiers of a file (static imports, re-exports and dynamic imports). */
 function imports(text: string): string[] {
   return [...text.matchAll(/(?:import|export)[^"';]*?from\s*["']([^"']+)["']|import\(\s*["']([^"']+)["']\s*\)/g)].map((m) => m[1] ?? m[2]!);
+}
+
+/** The project file a relative specifier points at (`.js` in the source names the `.ts` file). */
+function resolveSpec(file: string, spec: string): string {
+  return relative(".", join(file, "..", spec).replace(/\.js$/, ".ts")).split("\\").join("/");
 }
 
 describe("layering", () => {
@@ -36,9 +45,11 @@ describe("layering", () => {
     expect(/\bprocess\.|\bconsole\./.test(code), `process/console in ${file}`).toBe(false);
   });
 
-  // grammar ← syntax ← semantics ← analysis ← {service, codegen} ← {lsp, cli}: codegen reads the model and the
-  // analysis results (through the service's document type), and only the shells sit above the service.
-  const rank: Record<string, number> = { grammar: 0, syntax: 1, semantics: 2, analysis: 3, codegen: 4, service: 4, lsp: 5, cli: 5 };
+  // Floors, bottom up: grammar ← syntax ← {semantics, analysis} ← pipeline ← {codegen, products} ← service ← {lsp, cli}.
+  // semantics and analysis sit side by side and meet only at loss-model.ts; codegen and the products (curves,
+  // report, check output) read analysed documents from the pipeline; the service façade offers them to the
+  // editor; only the shells (lsp, cli) sit above it.
+  const rank: Record<string, number> = { grammar: 0, syntax: 1, semantics: 2, analysis: 2, pipeline: 3, codegen: 4, products: 4, service: 5, lsp: 6, cli: 6 };
   const layerOf = (file: string): string | null => {
     const rel = relative(".", file).split("\\").join("/");
     if (rel.startsWith("grammar/")) return "grammar";
@@ -49,23 +60,49 @@ describe("layering", () => {
   it.each(allServer.filter((f) => layerOf(f) !== null).map((f) => [f]))("%s imports only from its own or lower layers", (file) => {
     const own = layerOf(file)!;
     const text = readFileSync(file, "utf8");
-    const upward: string[] = [];
+    const wrong: string[] = [];
     for (const spec of imports(text)) {
       if (!spec.startsWith(".")) continue;
-      const target = join(file, "..", spec).replace(/\.js$/, ".ts");
-      const layer = layerOf(target);
-      if (layer === null) continue;
-      const allowed = rank[layer]! <= rank[own]!;
-      if (!allowed) upward.push(spec);
+      const layer = layerOf(resolveSpec(file, spec));
+      if (layer === null || layer === own) continue;
+      // Same floor, different layer (semantics and analysis; codegen and products): no import either way.
+      if (rank[layer]! >= rank[own]!) wrong.push(spec);
     }
-    expect(upward, `${file} imports a higher layer`).toEqual([]);
+    expect(wrong, `${file} imports a higher layer or a sibling on its floor`).toEqual([]);
+  });
+
+  it.each(SHARED.map((f) => [f]))("shared module %s imports only other shared modules", (file) => {
+    const bad = imports(readFileSync(file, "utf8")).filter((spec) => !SHARED.includes(resolveSpec(file, spec)));
+    expect(bad).toEqual([]);
+  });
+
+  it("has no import cycle between server modules", () => {
+    const graph = new Map<string, string[]>();
+    for (const f of allServer) {
+      const rel = relative(".", f).split("\\").join("/");
+      graph.set(rel, imports(readFileSync(f, "utf8")).filter((s) => s.startsWith(".")).map((s) => resolveSpec(f, s)));
+    }
+    const state = new Map<string, "open" | "done">();
+    const cycles: string[] = [];
+    const visit = (n: string, stack: string[]) => {
+      if (state.get(n) === "done") return;
+      if (state.get(n) === "open") {
+        cycles.push([...stack.slice(stack.indexOf(n)), n].join(" → "));
+        return;
+      }
+      state.set(n, "open");
+      for (const m of graph.get(n) ?? []) if (graph.has(m)) visit(m, [...stack, n]);
+      state.set(n, "done");
+    };
+    for (const n of graph.keys()) visit(n, []);
+    expect(cycles).toEqual([]);
   });
 
   it("the client imports from the server only the shared modules", () => {
     const offenders: string[] = [];
     for (const file of [...sources("client/src"), ...sources("client/media")]) {
       for (const spec of imports(readFileSync(file, "utf8"))) {
-        if (spec.includes("server/src/") && !/server\/src\/(protocol|display|version)\.js$/.test(spec)) offenders.push(`${file}: ${spec}`);
+        if (spec.includes("server/src/") && !CLIENT_SHARED.test(spec)) offenders.push(`${file}: ${spec}`);
       }
     }
     expect(offenders).toEqual([]);

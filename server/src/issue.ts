@@ -3,9 +3,9 @@
  * Spans are UTF-16 offsets into the document text; only the LSP adapter and the CLI turn them into
  * line/column positions.
  */
-import { ISSUE_CODES, type IssueCode } from "./issues.js";
+import { ISSUE_CODES, type IssueCode, type Severity } from "./issues.js";
 
-export type Severity = "error" | "warning" | "information" | "hint";
+export type { Severity };
 
 /** Half-open range [start, end) of UTF-16 offsets. */
 export interface Span {

@@ -3,7 +3,8 @@
  * and a one-line description (used by docs, SARIF rules and quick-fix dispatch).
  * Codes are part of the public contract (CLI JSON, SARIF, quick fixes): never rename one; add new ones.
  */
-import type { Severity } from "./issue.js";
+/** How serious an issue is (the LSP's four levels). */
+export type Severity = "error" | "warning" | "information" | "hint";
 
 export interface IssueCodeInfo {
   severity: Severity;
