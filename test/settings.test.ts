@@ -75,3 +75,18 @@ describe("normaliseSettings", () => {
     }
   });
 });
+
+describe("the pipeline's settings", () => {
+  it("takes the flat settings it is given, and clamps them with a log line on configure", async () => {
+    const { createPipeline } = await import("../server/src/pipeline/pipeline.js");
+    const p = createPipeline({ gridResolution: 401, defaultThreshold: 0.2 });
+    expect(p.settings.gridResolution).toBe(401);
+    expect(p.settings.defaultThreshold).toBe(0.2);
+    const log: string[] = [];
+    p.configure({ gridResolution: 7 }, (m) => log.push(m));
+    expect(p.settings.gridResolution).toBe(11);
+    // Settings not named keep their values.
+    expect(p.settings.defaultThreshold).toBe(0.2);
+    expect(log).toEqual([expect.stringMatching(/gridResolution: 7 is outside \[11, 5001\]; clamped to 11/)]);
+  });
+});

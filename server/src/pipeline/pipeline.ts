@@ -75,7 +75,7 @@ export interface PipelineOptions {
 
 /** Creates a pipeline with the given settings (missing ones take their defaults). */
 export function createPipeline(initial: Partial<AnalysisSettings> = {}, options: PipelineOptions = {}): Pipeline {
-  let settings: AnalysisSettings = normaliseSettings(initial);
+  let settings: AnalysisSettings = normaliseSettings(toRaw(initial));
   /** Engine results with the compiled loss they came from (both a function of the key and the settings). */
   const cache = new Map<string, { analysis: LossAnalysis; compiled: CompiledLoss }>();
   const memo: { text: string; doc: DocumentAnalysis; full: boolean }[] = [];
