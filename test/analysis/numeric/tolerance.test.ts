@@ -32,7 +32,7 @@ describe("nearlyEqual with the default tolerances", () => {
     [Infinity, -Infinity, false, "infinities of opposite sign differ"],
     [Infinity, Number.MAX_VALUE, false, "an infinity never equals a finite number"],
     [Number.MAX_VALUE, Number.MAX_VALUE * (1 - 1e-12), true, "no overflow in the relative test near MAX_VALUE"],
-  ] as const)("nearlyEqual(%s, %s) = %s: %s", (a, b, expected) => {
+  ] as const)("nearlyEqual(%s, %s) = %s: %s", (a, b, expected, _why) => {
     expect(nearlyEqual(a, b)).toBe(expected);
     // The comparison is symmetric.
     expect(nearlyEqual(b, a)).toBe(expected);
@@ -48,7 +48,7 @@ describe("nearlyEqual with explicit tolerances", () => {
     [0, 0.5, 0, 0.1, false, "absolute floor 0.1 does not cover 0.5"],
     [1, 1 + 1e-10, 0, 0, false, "zero tolerances accept only exact equality"],
     [2, 2, 0, 0, true, "zero tolerances accept exact equality"],
-  ] as const)("nearlyEqual(%s, %s, rel %s, abs %s) = %s: %s", (a, b, rel, abs, expected) => {
+  ] as const)("nearlyEqual(%s, %s, rel %s, abs %s) = %s: %s", (a, b, rel, abs, expected, _why) => {
     expect(nearlyEqual(a, b, rel, abs)).toBe(expected);
     expect(nearlyEqual(b, a, rel, abs)).toBe(expected);
   });
