@@ -1,9 +1,10 @@
 /**
  * Surrogate-regret bounds: Reid & Williamson's tight direct bound (RW09 "Surrogate Regret Bounds for Proper
  * Losses", ICML, Thm 3 = RW11 "Information, Divergence and Risk for Binary Experiments", JMLR 12, Thm 25,
- * with the min of the branches, proper-losses.md §3), the ψ-transform (Bartlett, Jordan & McAuliffe 2006,
+ * with the min of the branches, row C11), the ψ-transform (Bartlett, Jordan & McAuliffe 2006,
  * "Convexity, Classification, and Risk Bounds", JASA 101, as restated in RW11 App. D), and the modulus
  * route (Bao 2023, "Proper Losses, Moduli of Convexity, and Surrogate Regret Bounds", COLT, Cor. 7).
+ * Row ids (C…, F…, K…, L…, N…, P…) are rows of test/reference/proper-losses.md, which gives each one's source.
  */
 import { describe, expect, it } from "vitest";
 import { buildDirectBound, buildPsiTransform, modulusRouteBound } from "../../server/src/analysis/bounds.js";
@@ -29,7 +30,7 @@ import {
   type FixtureInput,
 } from "./curvature-table.js";
 
-/** The §3/§4/§7 bound values are printed to 10–12 significant digits ([C], mpmath); 1e-10 absolute checks them to their printed precision. */
+/** The bound values of rows N24–N34 and P1–P6 are printed to 10–12 significant digits (computed, mpmath); 1e-10 absolute checks them to their printed precision. */
 const VALUE_TOL = 1e-10;
 /** Inverses are printed to 10 digits; the root finder stops at 1e-13 in the argument. */
 const INVERSE_TOL = 1e-9;
@@ -42,21 +43,21 @@ const slopeOf = (input: FixtureInput, c: number) => {
 const direct = (input: FixtureInput, c: number) => buildDirectBound(fOf(input), c, slopeOf(input, c));
 
 describe("Reid & Williamson direct bound ψ_RW(c, α) = min of the two Bregman branches", () => {
-  it("log loss, c = ½, α = 0.1: H(½) − H(0.6) = 0.02013551355 (RW11 Cor. 27; §7 #30, computed)", () => {
+  it("log loss, c = ½, α = 0.1: H(½) − H(0.6) = 0.02013551355 (RW11 Cor. 27; N30, computed)", () => {
     expect(Math.abs(direct(logNats, 0.5).psi(0.1) - 0.02013551355)).toBeLessThan(VALUE_TOL);
   });
 
-  it("exponential loss, α = 0.1: 1 − √(1 − 4α²) = 0.02020410289 (RW11 App. D eq. (82); §7 #31)", () => {
+  it("exponential loss, α = 0.1: 1 − √(1 − 4α²) = 0.02020410289 (RW11 App. D eq. (82); N31)", () => {
     expect(Math.abs(direct(boosting, 0.5).psi(0.1) - (1 - Math.sqrt(1 - 0.04)))).toBeLessThan(VALUE_TOL);
     expect(Math.abs(direct(boosting, 0.5).psi(0.1) - 0.02020410289)).toBeLessThan(VALUE_TOL);
   });
 
-  it("log loss: the second-order bound (w(½)/2)α² = 0.02 lies below the exact 0.0201355 (RW11 Cor. 29; §7 #32)", () => {
+  it("log loss: the second-order bound (w(½)/2)α² = 0.02 lies below the exact 0.0201355 (RW11 Cor. 29; N32)", () => {
     const d = direct(logNats, 0.5);
     for (const a of [0.01, 0.1, 0.3]) expect(d.psi(a)).toBeGreaterThanOrEqual(2 * a * a);
   });
 
-  it("log loss, c = 0.3, α = 0.1: branches 0.02258242108 and 0.02573209248; the bound is the MIN (§3 warning on RW11 eq. (46); §7 #33)", () => {
+  it("log loss, c = 0.3, α = 0.1: branches 0.02258242108 and 0.02573209248; the bound is the MIN (C11: RW11 eq. (46) prints a max; N33)", () => {
     const d = direct(logNats, 0.3);
     const b = d.branches(0.1);
     expect(Math.abs(b.upper! - 0.02258242108)).toBeLessThan(VALUE_TOL);
@@ -69,7 +70,7 @@ describe("Reid & Williamson direct bound ψ_RW(c, α) = min of the two Bregman b
     expect(regret).toBeGreaterThanOrEqual(d.psi(0.1) - 1e-12);
   });
 
-  it("asymmetric H = −η ln η (w = 1/q) at c = ½, α = 0.1: branches 0.009392934076 and 0.01074257947 → min (§7 #34, computed)", () => {
+  it("asymmetric H = −η ln η (w = 1/q) at c = ½, α = 0.1: branches 0.009392934076 and 0.01074257947 → min (N34, computed)", () => {
     const d = direct(entropyOneSided, 0.5);
     const b = d.branches(0.1);
     expect(Math.abs(b.upper! - 0.009392934076)).toBeLessThan(VALUE_TOL);
@@ -77,14 +78,14 @@ describe("Reid & Williamson direct bound ψ_RW(c, α) = min of the two Bregman b
     expect(Math.abs(d.psi(0.1) - 0.009392934076)).toBeLessThan(VALUE_TOL);
   });
 
-  it("Brier at c = 0.3, α = 0.1: the upper branch is exactly 0.01 = R(0.4, 0.3) (§3 sign check)", () => {
+  it("Brier at c = 0.3, α = 0.1: the upper branch is exactly 0.01 = R(0.4, 0.3) (C12 sign check, computed)", () => {
     const d = direct(brier, 0.3);
     expect(Math.abs(d.branches(0.1).upper! - 0.01)).toBeLessThan(1e-12);
     const fns = fromBayes(brier);
     expect(Math.abs(fns.risk(0.4, 0.3) - fns.bayes(0.4) - 0.01)).toBeLessThan(1e-12);
   });
 
-  it("local exponents: ½ for w(c) ∈ (0,∞) (log), 1 for a point mass at c (ℓ_c: regret = |η − c|, §6 row 12)", () => {
+  it("local exponents: ½ for w(c) ∈ (0,∞) (log), 1 for a point mass at c (ℓ_c: regret = |η − c|, L12: RW11 Lemma 26)", () => {
     expect(direct(logNats, 0.3).exponent).toBe(0.5);
     const lc = buildDirectBound(fOf(costWeighted(0.3)), 0.3);
     expect(lc.exponent).toBe(1);
@@ -93,13 +94,13 @@ describe("Reid & Williamson direct bound ψ_RW(c, α) = min of the two Bregman b
     expect(lc.alphaMax).toBe(0.7);
   });
 
-  it("a point mass at c: the lower branch uses the loss's own supergradient at q = c (hinge R ≥ 2α vs 4ℓ_½ R ≥ 4α, §6 row 14)", () => {
+  it("a point mass at c: the lower branch uses the loss's own supergradient at q = c (hinge R ≥ 2α vs 4ℓ_½ R ≥ 4α, L14, computed)", () => {
     // 4ℓ_½ (l1 = 2[q < ½], l0 = 2[q ≥ ½]): the regret of a wrong decision is 4α on both sides (computed from the partials).
     const proper = buildDirectBound(fOf(hingeBayes), 0.5, slopeOf(hingeBayes, 0.5), true);
     expect(Math.abs(proper.psi(0.1) - 0.4)).toBeLessThan(1e-8);
     const fns = fromBayes(hingeBayes);
     expect(Math.abs(fns.risk(0.4, 0.5) - fns.bayes(0.4) - 0.4)).toBeLessThan(1e-12);
-    // Hinge at the boundary score v = 0 has φ(0) = 1 for both labels (supergradient 0): R ≥ 2α, as §6 row 14 states.
+    // Hinge at the boundary score v = 0 has φ(0) = 1 for both labels (supergradient 0): R ≥ 2α, as row L14 states (computed).
     const hinge = buildDirectBound(fOf(hingeMargin), 0.5, slopeOf(hingeMargin, 0.5), true);
     expect(Math.abs(hinge.psi(0.1) - 0.2)).toBeLessThan(1e-8);
     const hf = fromBayes(hingeMargin);
@@ -107,21 +108,21 @@ describe("Reid & Williamson direct bound ψ_RW(c, α) = min of the two Bregman b
     expect(hinge.exponent).toBe(1);
   });
 
-  it("inverse of ψ_RW**: log loss at R = 0.01 and 0.1 gives 0.07059257027 and 0.2197946262 (§7 #24–25, computed)", () => {
+  it("inverse of ψ_RW**: log loss at R = 0.01 and 0.1 gives 0.07059257027 and 0.2197946262 (N24–N25, computed from RW11 Cor. 27)", () => {
     const d = direct(logNats, 0.5);
     expect(Math.abs(d.inverse(0.01) - 0.07059257027)).toBeLessThan(INVERSE_TOL);
     expect(Math.abs(d.inverse(0.1) - 0.2197946262)).toBeLessThan(INVERSE_TOL);
-    // The direct bound beats the sharp Pinsker route √(R/2) (§7 #24) and the modulus route.
+    // The direct bound beats the sharp Pinsker route √(R/2) (N24) and the modulus route.
     expect(d.inverse(0.01)).toBeLessThan(Math.sqrt(0.005));
   });
 
-  it("Brier at R = 0.01: direct bound √R = 0.1 (the exact |η − q|), modulus route √(2R) = 0.1414213562 (§7 #26)", () => {
+  it("Brier at R = 0.01: direct bound √R = 0.1 (the exact |η − q|), modulus route √(2R) = 0.1414213562 (N26)", () => {
     expect(Math.abs(direct(brier, 0.5).inverse(0.01) - 0.1)).toBeLessThan(INVERSE_TOL);
     const m = buildModulusModel(fOf(brier));
     expect(Math.abs(modulusRouteBound(m, 0.01) - 0.1414213562)).toBeLessThan(INVERSE_TOL);
   });
 
-  it("modulus route for log loss at R = 0.01 and 0.1: 0.09991657615 and 0.3135631967 (§7 #24–25; Bao 2023 Cor. 7)", () => {
+  it("modulus route for log loss at R = 0.01 and 0.1: 0.09991657615 and 0.3135631967 (N24–N25; Bao 2023 Cor. 7)", () => {
     const m = buildModulusModel(fOf(logNats));
     expect(Math.abs(modulusRouteBound(m, 0.01) - 0.09991657615)).toBeLessThan(INVERSE_TOL);
     expect(Math.abs(modulusRouteBound(m, 0.1) - 0.3135631967)).toBeLessThan(INVERSE_TOL);
@@ -137,7 +138,7 @@ describe("Reid & Williamson direct bound ψ_RW(c, α) = min of the two Bregman b
   });
 });
 
-describe("BJM ψ-transform (§4 tables, computed [C]; exponential verified in RW11 App. D)", () => {
+describe("BJM ψ-transform (table P, computed; the exponential one published in RW11 App. D)", () => {
   const table: { name: string; input: FixtureInput; psi: [number, number, number]; inv01?: number; inv1?: number }[] = [
     { name: "exponential", input: exponentialMargin, psi: [0.00501256289338, 0.133974596216, 0.564110105646], inv01: 0.1410673598, inv1: 0.4358898944 },
     { name: "logistic (nats)", input: logisticMargin, psi: [0.00500836684636, 0.130812035941, 0.494631937214], inv01: 0.1411851405, inv1: 0.4395892523 },
@@ -157,13 +158,13 @@ describe("BJM ψ-transform (§4 tables, computed [C]; exponential verified in RW
     });
   }
 
-  it("convex calibrated φ: H⁻(η) = φ(0) (BJM06 convex case, confirmed numerically in §4)", () => {
+  it("convex calibrated φ: H⁻(η) = φ(0) (BJM06 convex case, from memory; row C18, confirmed numerically)", () => {
     const fns = fromBayes(exponentialMargin);
     const p = buildPsiTransform(fns.margin!, boundedUnitFn(fns.bayes));
     for (const eta of [0.55, 0.7, 0.95]) expect(Math.abs(p.wrongSignRisk(eta) - 1)).toBeLessThan(1e-12);
   });
 
-  it("ψ_logistic(θ) = δ_log(θ) for all θ (§4; §7 #28, computed): the two analyses agree", () => {
+  it("ψ_logistic(θ) = δ_log(θ) for all θ (P2, N28, computed): the two analyses agree", () => {
     const fns = fromBayes(logisticMargin);
     const p = buildPsiTransform(fns.margin!, boundedUnitFn(fns.bayes));
     const m = buildModulusModel(fOf(logNats));
@@ -179,7 +180,7 @@ describe("BJM ψ-transform (§4 tables, computed [C]; exponential verified in RW
   });
 });
 
-describe("units (proper-losses.md §9 pitfall 1): cost-½ regret α vs 0-1 regret θ = 2α", () => {
+describe("units (row C13: Bao 2023 §2.4; RW11): cost-½ regret α vs 0-1 regret θ = 2α", () => {
   it("0-1 loss: cost-½ regret α is guaranteed by surrogate regret 2α; the hinge ψ(θ) = |θ| matches with θ = 2α", () => {
     const d = buildDirectBound(fOf(zeroOne), 0.5);
     // 0-1 loss regret is |2η − 1| = 2α when the decision is wrong (RW11: B_½ is half the 0-1 regret).
@@ -194,7 +195,7 @@ describe("units (proper-losses.md §9 pitfall 1): cost-½ regret α vs 0-1 regre
     const res = analyseCurvature(fromBayes(logisticMargin));
     const note = res.notes.find((n) => n.startsWith("At surrogate regret 0.01"));
     expect(note).toBeDefined();
-    // Direct 0.07059257027 (§7 #24) and ψ⁻¹(0.01)/2 = 0.1411851405/2 (§4) agree to the printed digits.
+    // Direct 0.07059257027 (N24) and ψ⁻¹(0.01)/2 = 0.1411851405/2 (P2) agree to the printed digits.
     expect(note).toContain("direct ≤ 0.0705926");
     expect(note).toContain("ψ-transform ≤ 0.0705926");
     expect(note).toContain("modulus route ≤ 0.0999166");

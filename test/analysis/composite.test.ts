@@ -1,6 +1,7 @@
 /**
  * Tests of convexity in the score for composite losses: Reid & Williamson 2010, "Composite Binary
  * Losses", JMLR 11, Thm 24 eq. (17), Cor. 26 (identity link) and Thm 28 (canonical links are convex).
+ * Row ids (C…, F…, K…, L…, N…, P…) are rows of test/reference/proper-losses.md, which gives each one's source.
  */
 import { describe, expect, it } from "vitest";
 import { checkCompositeConvexity, checkEq17 } from "../../server/src/analysis/composite.js";
@@ -14,9 +15,9 @@ const fnsOf = (spec: LossSpec) => deriveLossFunctions(spec).fns!;
 
 describe("RW10 Thm 24 eq. (17)", () => {
   it.each([
-    // proper-losses.md §7 #39 / RW10 Cor. 26: fails exactly on (0, ¼).
+    // Row N39 / RW10 Cor. 26: fails exactly on (0, ¼).
     ["boosting + identity link", withLink(BOOSTING, "b-id", (q) => q, () => 1, () => 0), false],
-    // proper-losses.md §5: the middle term is −½(1/x − 1/(1−x)) with the half-logit link, inside the bounds.
+    // Row K7 (computed from RW10 eq. (17)): the middle term is −½(1/x − 1/(1−x)) with the half-logit link, inside the bounds.
     ["boosting + half-logit link", withLink(BOOSTING, "b-hl", HALF_LOGIT, (q) => 0.5 / (q * (1 - q)), (q) => (0.5 * (2 * q - 1)) / (q * (1 - q)) ** 2), true],
     // RW10 Thm 28: the canonical link (logit for log loss) is convex.
     ["log + logit link", withLink(LOG_NATS, "l-logit", logit, (q) => 1 / (q * (1 - q))), true],
@@ -30,7 +31,7 @@ describe("RW10 Thm 24 eq. (17)", () => {
     expect(r.findings.length).toBe(convex ? 0 : 1);
   });
 
-  it("boosting + identity link: the failing interval ends at q = ¼ (proper-losses.md §7 #39, RW10 Cor. 26)", () => {
+  it("boosting + identity link: the failing interval ends at q = ¼ (N39, RW10 Cor. 26)", () => {
     const r = checkEq17(fnsOf(withLink(BOOSTING, "b-id", (q) => q, () => 1, () => 0)), () => 0);
     const f = r.findings[0]!;
     expect(f.code).toBe("not-convex-in-score");

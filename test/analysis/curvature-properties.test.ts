@@ -1,6 +1,6 @@
 /**
  * Property tests over random proper losses built from the table (positive mixtures of two strictly
- * proper §6 losses, scaled): the modulus and bound inequalities of the published theorems must hold.
+ * proper losses of test/reference/proper-losses.md, table L, scaled): the modulus and bound inequalities of the published theorems must hold.
  * Mixtures aH₁ + bH₂ of concave Bayes risks are Bayes risks of proper losses with w = a·w₁ + b·w₂, so
  * λ ≥ a·λ₁ + b·λ₂ (common practice: inf of a sum ≥ sum of infs).
  */
@@ -56,7 +56,7 @@ const arbLoss = fc
 const SLACK = 1e-11;
 
 describe("properties over random proper losses of the table", () => {
-  it("δ(ε) ≥ λε²/8 (Bao 2023, COLT, App. A.1; proper-losses.md §2.2)", () => {
+  it("δ(ε) ≥ λε²/8 (Bao 2023, COLT, App. A.1; test/reference/proper-losses.md row C8)", () => {
     fc.assert(
       fc.property(arbLoss, fc.double({ min: 1e-3, max: 1, noNaN: true }), (loss, eps) => {
         const f = (q: number) => -loss.input.bayes(q);

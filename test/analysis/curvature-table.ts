@@ -1,6 +1,6 @@
 /**
- * LossFunctions fixtures for the curvature tests, built by hand from closures (the losses of
- * proper-losses.md §6 and §7). Partial losses come from the Bayes risk through the Savage
+ * LossFunctions fixtures for the curvature tests, built by hand from closures (the losses of tables L and N
+ * of test/reference/proper-losses.md). Partial losses come from the Bayes risk through the Savage
  * representation l1 = H + (1−q)H', l0 = H − qH' (Bao 2023, COLT, Thm 1 eqs. (2)–(3); Reid & Williamson
  * 2010, "Composite Binary Losses", JMLR 11, Thm 4).
  */
@@ -51,7 +51,7 @@ export function fromBayes(input: FixtureInput): LossFunctions {
 const xlnx = (x: number) => (x <= 0 ? 0 : x * Math.log(x));
 const logit = (q: number) => Math.log(q / (1 - q));
 
-/** Scales a loss (H, H', w by k): λ and δ scale linearly (proper-losses.md §6 notes). */
+/** Scales a loss (H, H', w by k): λ and δ scale linearly (test/reference/proper-losses.md, row C17, computed). */
 export function scaled(input: FixtureInput, k: number): FixtureInput {
   const w = input.weight;
   const dH = input.dbayes;
@@ -131,16 +131,16 @@ export function costWeighted(c: number, k = 1): FixtureInput {
   };
 }
 export const zeroOne: FixtureInput = costWeighted(0.5, 2);
-/** The proper loss with the hinge Bayes risk 2 min(η, 1−η) (= 4ℓ_½, §6 row 14). */
+/** The proper loss with the hinge Bayes risk 2 min(η, 1−η) (= 4ℓ_½, test/reference/proper-losses.md row L14). */
 export const hingeBayes: FixtureInput = costWeighted(0.5, 4);
-/** Asymmetric H = −η ln η (w = 1/q), §7 #34. */
+/** Asymmetric H = −η ln η (w = 1/q), test/reference/proper-losses.md row N34. */
 export const entropyOneSided: FixtureInput = {
   bayes: (q) => -xlnx(q),
   dbayes: (q) => -Math.log(q) - 1,
   weight: (q) => 1 / q,
 };
 
-/** Margin losses (φ(v) on y = 1), with their Bayes risk H(η) = inf_v ηφ(v) + (1−η)φ(−v) (§4 table). */
+/** Margin losses (φ(v) on y = 1), with their Bayes risk H(η) = inf_v ηφ(v) + (1−η)φ(−v) (test/reference/proper-losses.md, table P). */
 const softplusNeg = (v: number) => (v > 0 ? Math.log1p(Math.exp(-v)) : -v + Math.log1p(Math.exp(v)));
 export const logisticMargin: FixtureInput = { ...logNats, margin: softplusNeg, link: logit, threshold: 0.5 };
 export const logisticBitsMargin: FixtureInput = { ...logBits, margin: (v) => softplusNeg(v) / Math.LN2, link: logit };
@@ -164,7 +164,7 @@ export interface TableEntry {
   lambda: number;
 }
 
-/** The strictly proper fixtures with their λ (proper-losses.md §6.1 column λ), for property tests. */
+/** The strictly proper fixtures with their λ (test/reference/proper-losses.md, column λ of table L and rows N1–N6), for property tests. */
 export const STRICTLY_PROPER_TABLE: TableEntry[] = [
   { id: "log-nats", input: logNats, lambda: 4 },
   { id: "log-bits", input: logBits, lambda: 4 / Math.LN2 },

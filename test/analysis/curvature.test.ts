@@ -2,6 +2,7 @@
  * analyseCurvature: λ = inf w (Agarwal 2014, "Surrogate Regret Bounds for Bipartite Ranking via Strongly
  * Proper Losses", JMLR 15, Def. 7 / Thm 10), weight features, modulus near 0 (Bao 2023, COLT, Def. 4,
  * Thm 10), exponents by both routes, inverse table, findings and summary.
+ * Row ids (C…, F…, K…, L…, N…, P…) are rows of test/reference/proper-losses.md, which gives each one's source.
  */
 import { describe, expect, it } from "vitest";
 import { analyseCurvature, formatExponent } from "../../server/src/analysis/curvature.js";
@@ -38,31 +39,31 @@ function lambdaOf(input: FixtureInput, withoutWeight = false) {
   return analyseCurvature(fns);
 }
 
-describe("λ = inf w (proper-losses.md §7 rows 1–6, 37)", () => {
+describe("λ = inf w (rows N1–N6, L5, L10b, N37)", () => {
   const rows: { name: string; input: FixtureInput; lambda: number; approached: boolean; source: string }[] = [
-    // §7 #1: Agarwal 2014, Example 2 / Table 1.
+    // Row N1: Agarwal 2014, Example 2 / Table 1.
     { name: "log (nats)", input: logNats, lambda: 4, approached: false, source: "Ag14 Ex. 2 / Table 1" },
-    // §7 #2: computed, 4/ln 2.
-    { name: "log (bits)", input: logBits, lambda: 5.770780163555854, approached: false, source: "§7 #2 [C]" },
-    // §7 #3: Agarwal 2014, Example 1.
+    // Row N2: computed, 4/ln 2 (row L1 scaled).
+    { name: "log (bits)", input: logBits, lambda: 5.770780163555854, approached: false, source: "N2, computed" },
+    // Row N3: Agarwal 2014, Example 1.
     { name: "exponential (Buja scale)", input: boosting, lambda: 4, approached: false, source: "Ag14 Ex. 1" },
-    // §7 #4: Agarwal 2014, Example 3.
+    // Row N4: Agarwal 2014, Example 3.
     { name: "Ag14 squared 4(1−q)², 4q²", input: ag14Squared, lambda: 8, approached: false, source: "Ag14 Ex. 3" },
-    // §7 #5: Agarwal 2014, Table 1 (canonical squared (1−q)², q²).
+    // Row N5: Agarwal 2014, Table 1 (canonical squared (1−q)², q²).
     { name: "canonical squared", input: brier, lambda: 2, approached: false, source: "Ag14 Table 1" },
-    // §7 #6: Agarwal 2014, Table 1; the infimum sits at the endpoints.
+    // Row N6: Agarwal 2014, Table 1; the infimum sits at the endpoints.
     { name: "spherical", input: spherical, lambda: 1, approached: true, source: "Ag14 Table 1" },
-    // §6 row 5 (½-Brier, w = 1).
-    { name: "½-Brier", input: halfBrier, lambda: 1, approached: false, source: "§6 row 5" },
-    // §6 row 10b: Beta(½,½), λ = 4^{1−a} = 2.
-    { name: "Beta(½,½)", input: betaHalfHalf, lambda: 2, approached: false, source: "§6 row 10b" },
-    // §7 #37: Tsallis λ(α), computed.
-    { name: "Tsallis α = 0.5", input: tsallis(0.5), lambda: 2.828427124746190, approached: false, source: "§7 #37 [C]" },
-    { name: "Tsallis α = 1.5", input: tsallis(1.5), lambda: 4.242640687119285, approached: false, source: "§7 #37 [C]" },
-    { name: "Tsallis α = 2", input: tsallis(2), lambda: 4, approached: false, source: "§7 #37 [C]" },
-    { name: "Tsallis α = 2.5", input: tsallis(2.5), lambda: 2.5, approached: true, source: "§7 #37 [C]" },
-    { name: "Tsallis α = 3", input: tsallis(3), lambda: 3, approached: false, source: "§7 #37 [C]" },
-    { name: "Tsallis α = 4", input: tsallis(4), lambda: 2, approached: false, source: "§7 #37 [C]" },
+    // Row L5 (½-Brier, w = 1: Reid & Williamson 2010, Table 1).
+    { name: "½-Brier", input: halfBrier, lambda: 1, approached: false, source: "L5; RW10 Table 1" },
+    // Row L10b: Beta(½,½), λ = w(½) = 4^{1−a} = 2 (computed).
+    { name: "Beta(½,½)", input: betaHalfHalf, lambda: 2, approached: false, source: "L10b, computed" },
+    // Row N37: Tsallis λ(α) = inf of w = −H'', computed.
+    { name: "Tsallis α = 0.5", input: tsallis(0.5), lambda: 2.828427124746190, approached: false, source: "N37, computed" },
+    { name: "Tsallis α = 1.5", input: tsallis(1.5), lambda: 4.242640687119285, approached: false, source: "N37, computed" },
+    { name: "Tsallis α = 2", input: tsallis(2), lambda: 4, approached: false, source: "N37, computed" },
+    { name: "Tsallis α = 2.5", input: tsallis(2.5), lambda: 2.5, approached: true, source: "N37, computed" },
+    { name: "Tsallis α = 3", input: tsallis(3), lambda: 3, approached: false, source: "N37, computed" },
+    { name: "Tsallis α = 4", input: tsallis(4), lambda: 2, approached: false, source: "N37, computed" },
   ];
   for (const r of rows) {
     it(`${r.name}: λ = ${r.lambda} (${r.source})`, () => {
@@ -84,7 +85,7 @@ describe("λ = inf w (proper-losses.md §7 rows 1–6, 37)", () => {
     expect(sph.lambdaAt?.approached).toBe(true);
   });
 
-  it("Beta(2,2): λ = 0 approached at an endpoint (§6 row 10c)", () => {
+  it("Beta(2,2): λ = 0 approached at an endpoint (row L10c, computed)", () => {
     const res = lambdaOf(betaTwoTwo);
     expect(res.lambda).toBe(0);
     expect(res.lambdaAt?.approached).toBe(true);
@@ -115,7 +116,7 @@ describe("weight features: point masses and zero intervals", () => {
     expect(res.lambda).toBe(0);
   });
 
-  it("ℓ_c with c = 0.3: point mass 1 at c (RW10 Table 1: w = δ(q − c)); vacuous below max(c, 1−c) = 0.7 (§6 row 12)", () => {
+  it("ℓ_c with c = 0.3: point mass 1 at c (RW10 Table 1: w = δ(q − c)); vacuous below max(c, 1−c) = 0.7 (row L12)", () => {
     const res = analyseCurvature(fromBayes(costWeighted(0.3)));
     expect(res.weightFeatures.pointMasses.length).toBe(1);
     expect(Math.abs(res.weightFeatures.pointMasses[0]!.q - 0.3)).toBeLessThan(1e-8);
@@ -132,7 +133,7 @@ describe("weight features: point masses and zero intervals", () => {
     }
   });
 
-  it("a log loss plus a 0-1 loss: the point mass is found on top of a smooth weight (mixture of §6 rows 1 and 13)", () => {
+  it("a log loss plus a 0-1 loss: the point mass is found on top of a smooth weight (mixture of rows L1 and L13)", () => {
     const mix = fromBayes({ bayes: (q) => logNats.bayes(q) + zeroOne.bayes(q), weight: null });
     const res = analyseCurvature(mix);
     expect(res.weightFeatures.pointMasses.length).toBe(1);
@@ -163,8 +164,8 @@ describe("weight features: point masses and zero intervals", () => {
   });
 });
 
-describe("exponents by both routes (proper-losses.md §2.6, §6 columns L1 exp. and 0-1 exp.)", () => {
-  it("log loss: ½ and ½, no explanation needed (§6 row 1)", () => {
+describe("exponents by both routes (row C15 and the exponents column of table L; Bao 2023 §5)", () => {
+  it("log loss: ½ and ½, no explanation needed (row L1)", () => {
     const res = analyseCurvature(fromBayes(logNats));
     expect(res.exponents.viaModulus).toBe(0.5);
     expect(res.exponents.direct).toBe(0.5);
@@ -174,7 +175,7 @@ describe("exponents by both routes (proper-losses.md §2.6, §6 columns L1 exp. 
     expect(res.summary).toBe("λ = 4 · δ ≈ 0.5ε² · exponents ½ / ½");
   });
 
-  it("Beta(2,2): modulus exponent ⅓, direct ½, explained by w vanishing at an endpoint (§6 row 10c)", () => {
+  it("Beta(2,2): modulus exponent ⅓, direct ½, explained by w vanishing at an endpoint (row L10c, computed)", () => {
     const res = analyseCurvature(fromBayes(betaTwoTwo));
     expect(res.exponents.viaModulus).toBeCloseTo(1 / 3, 12);
     expect(res.exponents.direct).toBe(0.5);
@@ -182,14 +183,14 @@ describe("exponents by both routes (proper-losses.md §2.6, §6 columns L1 exp. 
     expect(res.summary).toContain("exponents ⅓ / ½");
   });
 
-  it("pseudo-spherical α = 3: modulus exponent ⅓ (endpoint), direct ½ (§6 row 15)", () => {
+  it("pseudo-spherical α = 3: modulus exponent ⅓ (endpoint), direct ½ (row L15, computed)", () => {
     const res = analyseCurvature(fromBayes(pseudoSpherical(3)));
     expect(res.exponents.viaModulus).toBeCloseTo(1 / 3, 12);
     expect(res.exponents.direct).toBe(0.5);
     expect(res.exponents.explanation).toContain("endpoint");
   });
 
-  it("pseudo-spherical α = 2.5 (no weight closure): δ ≈ ((½ − 2^{−α})/α)·ε^α, modulus exponent 2/5, direct ½ (§6 row 15 [C])", () => {
+  it("pseudo-spherical α = 2.5 (no weight closure): δ ≈ ((½ − 2^{−α})/α)·ε^α, modulus exponent 2/5, direct ½ (row L15, computed)", () => {
     const res = analyseCurvature(fromBayes(pseudoSpherical(2.5)));
     expect(res.lambda).toBe(0);
     expect(res.lambdaAt).toEqual({ q: 0, approached: true });
@@ -201,17 +202,17 @@ describe("exponents by both routes (proper-losses.md §2.6, §6 columns L1 exp. 
     expect(res.exponents.explanation).toContain("w ~ q^0.5 near 0");
   });
 
-  it("pseudo-spherical α = 5 (w ~ q³ at the endpoints): strictly proper, so never reported as vacuous (§1.4; §6 row 15)", () => {
+  it("pseudo-spherical α = 5 (w ~ q³ at the endpoints): strictly proper, so never reported as vacuous (rows C4, L15; Bao 2023 Thm 2)", () => {
     const res = analyseCurvature(fromBayes(pseudoSpherical(5)));
     expect(res.vacuousBelow).toBeNull();
     expect(res.weightFeatures.zeroIntervals).toEqual([]);
     expect(res.lambda).toBe(0);
     expect(res.lambdaAt?.approached).toBe(true);
-    // p = α = 5 (§6 row 15 [C]); the estimate is within 1e-2 (rounding of H limits the smallest usable ε).
+    // p = α = 5 (row L15, computed); the estimate is within 1e-2 (rounding of H limits the smallest usable ε).
     expect(Math.abs(res.modulus!.power - 5)).toBeLessThan(1e-2);
   });
 
-  it("cubic polynomial entropy: ⅓ by both routes; ψ_RW(½, a) = a³ exactly (§6 row 16; Bao 2023 App. B.5)", () => {
+  it("cubic polynomial entropy: ⅓ by both routes; ψ_RW(½, a) = a³ exactly (row L16; Bao 2023 App. B.5)", () => {
     const res = analyseCurvature(fromBayes(polynomial(3)));
     expect(res.exponents.viaModulus).toBeCloseTo(1 / 3, 12);
     expect(res.exponents.direct).toBeCloseTo(1 / 3, 12);
@@ -228,7 +229,7 @@ describe("exponents by both routes (proper-losses.md §2.6, §6 columns L1 exp. 
     expect(res.exponents.explanation).toContain("unbounded at the threshold");
   });
 
-  it("0-1 loss: modulus route vacuous below ½ (no exponent), direct exponent 1 from the point mass (§6 row 13)", () => {
+  it("0-1 loss: modulus route vacuous below ½ (no exponent), direct exponent 1 from the point mass (row L13; Bao 2023 §5)", () => {
     const res = analyseCurvature(fromBayes(zeroOne));
     expect(res.vacuousBelow).toBeCloseTo(0.5, 9);
     expect(res.modulus).toBeNull();
@@ -242,7 +243,7 @@ describe("exponents by both routes (proper-losses.md §2.6, §6 columns L1 exp. 
 });
 
 describe("inverse table (decision regret in cost-c units; surrogate regret in the loss's units)", () => {
-  it("Brier: modulus route needs 2δ(a) = a²/2, direct needs a² (§3 sign check: Brier at c = ½ gives α²)", () => {
+  it("Brier: modulus route needs 2δ(a) = a²/2, direct needs a² (row C12 sign check, computed: Brier at c = ½ gives α²)", () => {
     const res = analyseCurvature(fromBayes(brier));
     for (const row of res.inverseTable) {
       const a = row.decisionRegret;
@@ -254,7 +255,7 @@ describe("inverse table (decision regret in cost-c units; surrogate regret in th
     expect(res.units.decisionRegret).toContain("half the usual 0-1 regret");
   });
 
-  it("logistic margin loss: the ψ-transform column equals ψ(2a) = δ_log(2a) (§4: ψ_logistic = δ_log; §7 #28)", () => {
+  it("logistic margin loss: the ψ-transform column equals ψ(2a) = δ_log(2a) (rows P2 and N28, computed: ψ_logistic = δ_log)", () => {
     const res = analyseCurvature(fromBayes(logisticMargin));
     const closed = (e: number) => ((1 + e) / 2) * Math.log((1 + e) / 2) + ((1 - e) / 2) * Math.log((1 - e) / 2) + Math.LN2;
     for (const row of res.inverseTable) {

@@ -1,6 +1,7 @@
 /**
  * Tests of the derivation of the common model (partial losses, Bayes risk, weight, link) from every
  * definition form. Each check names its published source, or says "computed" and how.
+ * Row ids (C…, F…, K…, L…, N…, P…) are rows of test/reference/proper-losses.md, which gives each one's source.
  */
 import { describe, expect, it } from "vitest";
 import { deriveLossFunctions } from "../../server/src/analysis/derive.js";
@@ -48,9 +49,9 @@ describe("weight form (integral representation, Reid & Williamson 2010, Thm 6 eq
   });
 
   it.each([
-    // proper-losses.md §6 row 10b (closed form of the Beta(½,½) integrals; stationarity sympy-checked there).
+    // Row L10b (computed: closed form of the Beta(½,½) integrals of Reid & Williamson 2010, Thm 6; stationarity checked with sympy).
     ["Beta(1/2,1/2)", (q: number) => 1 / Math.sqrt(q * (1 - q)), (q: number) => Math.acos(Math.sqrt(q)) - Math.sqrt(q * (1 - q)), (q: number) => Math.asin(Math.sqrt(q)) - Math.sqrt(q * (1 - q))],
-    // proper-losses.md §6 row 10c (Beta(2,2) weight q(1−q)).
+    // Row L10c (computed: Beta(2,2) weight q(1−q) integrated by Reid & Williamson 2010, Thm 6 eq. (5)).
     ["Beta(2,2)", (q: number) => q * (1 - q), (q: number) => 1 / 12 - q ** 2 / 2 + (2 * q ** 3) / 3 - q ** 4 / 4, (q: number) => q ** 3 / 3 - q ** 4 / 4],
     // Reid & Williamson 2010, Table 1: w = 1 gives the half-Brier loss (1−q)²/2, q²/2.
     ["Beta(1,1)", () => 1, (q: number) => (1 - q) ** 2 / 2, (q: number) => q ** 2 / 2],
@@ -88,7 +89,7 @@ describe("weight form (integral representation, Reid & Williamson 2010, Thm 6 eq
 });
 
 describe("Bayes form (Savage representation, Bao 2023, Thm 1; Reid & Williamson 2010, Thm 4)", () => {
-  it("Tsallis α = ½ gives the row 11c partial losses and weight (proper-losses.md §6 row 11c, sympy-checked there)", () => {
+  it("Tsallis α = ½ gives the closed-form partial losses and weight (row L11c, computed by the Savage form, Bao 2023 Thm 1; checked with sympy)", () => {
     const f = fnsOf(tsallis(0.5));
     for (const q of probe) {
       expect(nearlyEqual(f.l1(q), (1 + q) / Math.sqrt(q) + Math.sqrt(1 - q) - 2, 1e-9, 1e-12)).toBe(true);
@@ -115,7 +116,7 @@ describe("Bayes form (Savage representation, Bao 2023, Thm 1; Reid & Williamson 
 });
 
 describe("partials form", () => {
-  it("hinge with linear partials: L(0.7,0.7) = 0.84, L(0.7,1) = 0.60 and H(0.7) = inf_q L = 0.6, not L(η,η) (proper-losses.md §7 #38, computed)", () => {
+  it("hinge with linear partials: L(0.7,0.7) = 0.84, L(0.7,1) = 0.60 and H(0.7) = inf_q L = 0.6, not L(η,η) (N38, computed)", () => {
     const f = fnsOf(partials("hinge-linear", (q) => 2 * (1 - q), (q) => 2 * q));
     expect(nearlyEqual(f.risk(0.7, 0.7), 0.84)).toBe(true);
     expect(nearlyEqual(f.risk(0.7, 1), 0.6)).toBe(true);
@@ -132,7 +133,7 @@ describe("partials form", () => {
     expect(f.risk(1, 1)).toBe(0);
   });
 
-  it("boosting loss weight ½[q(1−q)]^{-3/2} from the stationarity ratio (proper-losses.md §6 row 8)", () => {
+  it("boosting loss weight ½[q(1−q)]^{-3/2} from the stationarity ratio (row L8: Agarwal 2014, Ex. 1; Reid & Williamson 2010, Thm 1)", () => {
     const f = fnsOf(BOOSTING);
     for (const q of probe) expect(nearlyEqual(f.weight!(q), 0.5 * (q * (1 - q)) ** -1.5, 1e-9)).toBe(true);
   });
@@ -143,7 +144,7 @@ describe("partials form", () => {
     ["half-Brier", partials("hb", (q) => (1 - q) ** 2 / 2, (q) => q * q / 2, (q) => -(1 - q), (q) => q), (q: number) => q - 0.5],
     // Boosting proper loss √((1−q)/q), √(q/(1−q)): canonical link (2q − 1)/√(q(1−q)) (Agarwal 2014, Table 1, "canonical exponential").
     ["boosting", BOOSTING, (q: number) => (2 * q - 1) / Math.sqrt(q * (1 - q))],
-    // The same loss given by its weight function ½[q(1−q)]^{−3/2} (proper-losses.md §6 row 8).
+    // The same loss given by its weight function ½[q(1−q)]^{−3/2} (row L8).
     ["boosting by weight", { name: "bw", form: "weight" as const, params: {}, threshold: 0.5, weight: (q: number) => 0.5 * (q * (1 - q)) ** -1.5 }, (q: number) => (2 * q - 1) / Math.sqrt(q * (1 - q))],
   ])("canonical link of %s", (_n, spec, expected) => {
     const f = fnsOf({ ...spec, canonicalLink: true });
@@ -199,9 +200,9 @@ describe("margin form (Reid & Williamson 2010, Cor. 14; Bartlett, Jordan & McAul
   it.each([
     // Exponential: ψ⁻¹(v) = 1/(1+e^{−2v}) so ψ = ½ logit; l1 = √((1−q)/q); H = 2√(η(1−η)) (RW10 §4.3; RW11 App. D).
     ["exponential", MARGIN_EXP, (q: number) => 0.5 * logit(q), (q: number) => Math.sqrt((1 - q) / q), (q: number) => 2 * Math.sqrt(q * (1 - q))],
-    // Logistic: ψ = logit, l1 = −ln q, H = entropy (Agarwal 2014, Ex. 2; proper-losses.md §4 table).
+    // Logistic: ψ = logit, l1 = −ln q, H = entropy (Agarwal 2014, Ex. 2; rows K1, P2).
     ["logistic", MARGIN_LOGISTIC, logit, (q: number) => -Math.log(q), entropy],
-    // Squared (1−v)²: ψ = 2q−1, l1 = 4(1−q)², H = 4η(1−η) (Agarwal 2014, Ex. 3; proper-losses.md §4 table).
+    // Squared (1−v)²: ψ = 2q−1, l1 = 4(1−q)², H = 4η(1−η) (Agarwal 2014, Ex. 3; rows K3, P4).
     ["squared", MARGIN_SQUARED, (q: number) => 2 * q - 1, (q: number) => 4 * (1 - q) ** 2, (q: number) => 4 * q * (1 - q)],
   ])("%s: implied link, partial losses and Bayes risk", (_n, spec, link, l1, H) => {
     const r = deriveLossFunctions(spec);
@@ -214,12 +215,12 @@ describe("margin form (Reid & Williamson 2010, Cor. 14; Bartlett, Jordan & McAul
     }
   });
 
-  it("exponential margin weight ½[q(1−q)]^{-3/2} (proper-losses.md §6 row 8)", () => {
+  it("exponential margin weight ½[q(1−q)]^{-3/2} (row L8; Reid & Williamson 2010, Cor. 14)", () => {
     const f = fnsOf(MARGIN_EXP);
     for (const q of [0.1, 0.3, 0.5, 0.8]) expect(nearlyEqual(f.weight!(q), 0.5 * (q * (1 - q)) ** -1.5, 1e-6)).toBe(true);
   });
 
-  it("hinge: no invertible link (margin-no-link) and H = 2 min(η, 1−η) (Reid & Williamson 2010, Cor. 14; proper-losses.md §4 table)", () => {
+  it("hinge: no invertible link (margin-no-link) and H = 2 min(η, 1−η) (Reid & Williamson 2010, Cor. 14; rows K5, P6)", () => {
     const r = deriveLossFunctions(MARGIN_HINGE);
     expect(r.findings.map((f) => f.code)).toEqual(["margin-no-link"]);
     expect(r.fns!.link).toBeNull();

@@ -1,6 +1,7 @@
 /**
  * Tests of margin losses φ(yv): implied link (Reid & Williamson 2010, Cor. 14), Bayes risk and the BJM
- * ψ-transform values (proper-losses.md §4), calibration (Bartlett, Jordan & McAuliffe 2006) and convexity.
+ * ψ-transform values (table P), calibration (Bartlett, Jordan & McAuliffe 2006) and convexity.
+ * Row ids (C…, F…, K…, L…, N…, P…) are rows of test/reference/proper-losses.md, which gives each one's source.
  */
 import { describe, expect, it } from "vitest";
 import { analyseProperness } from "../../server/src/analysis/properness.js";
@@ -18,7 +19,7 @@ import { MARGIN_EXP, MARGIN_HINGE, MARGIN_LOGISTIC, MARGIN_SQUARED, familyOf, ma
 
 const codesOf = (phi: RealFn, dphi?: RealFn) => analyseProperness(familyOf(margin("m", phi, dphi))).findings.map((f) => f.code);
 
-describe("verdicts of the margin losses of proper-losses.md §4/§5", () => {
+describe("verdicts of the margin losses of tables K and P", () => {
   it.each([
     // RW10 Cor. 14: e^{−v} is proper composite with the half-logit link.
     ["exponential", MARGIN_EXP, "strictly-proper", []],
@@ -26,7 +27,7 @@ describe("verdicts of the margin losses of proper-losses.md §4/§5", () => {
     ["logistic", MARGIN_LOGISTIC, "strictly-proper", []],
     // (1−v)² with link 2q−1 is the Ag14 squared loss (Agarwal 2014, Ex. 3).
     ["squared", MARGIN_SQUARED, "strictly-proper", []],
-    // Hinge: calibrated but no invertible link (RW10 Cor. 14 text; BJM06); notation.md makes the verdict improper.
+    // Hinge: calibrated but no invertible link (RW10 Cor. 14 text; BJM06); the notation makes the verdict improper (test/reference/notation.md, "Verdicts").
     ["hinge", MARGIN_HINGE, "improper", ["margin-no-link"]],
   ] as const)("%s → %s", (_n, spec, verdict, expectedCodes) => {
     const r = analyseProperness(familyOf(spec));
@@ -40,7 +41,7 @@ describe("verdicts of the margin losses of proper-losses.md §4/§5", () => {
   });
 });
 
-describe("Bayes risk by minimisation over the score, and the ψ-transform ψ(θ) = φ(0) − H((1+θ)/2) (proper-losses.md §4 table, computed by 1-D minimisation there)", () => {
+describe("Bayes risk by minimisation over the score, and the ψ-transform ψ(θ) = φ(0) − H((1+θ)/2) (table P, computed: closed forms checked by 1-D minimisation)", () => {
   it.each([
     ["exponential", MARGIN_EXP.margin!, [0.00501256289338, 0.133974596216, 0.564110105646]],
     ["logistic", MARGIN_LOGISTIC.margin!, [0.00500836684636, 0.130812035941, 0.494631937214]],

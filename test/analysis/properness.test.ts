@@ -1,7 +1,8 @@
 /**
- * Tests of the properness engine: verdicts for the standard losses of proper-losses.md §6, improper
+ * Tests of the properness engine: verdicts for the standard losses of table L, improper
  * constructions of our own, bad input, parameter ranges, time-boxing and claims. Each check names its
  * published source, or says "computed" and how.
+ * Row ids (C…, F…, K…, L…, N…, P…) are rows of test/reference/proper-losses.md, which gives each one's source.
  */
 import { describe, expect, it } from "vitest";
 import fc from "fast-check";
@@ -28,7 +29,7 @@ const codes = (r: PropernessResult) => r.findings.map((f) => f.code);
 const errors = (r: PropernessResult) => r.findings.filter((f) => (f.severity ?? ISSUE_CODES[f.code].severity) === "error");
 const entropy = (q: number) => -q * Math.log(q) - (1 - q) * Math.log(1 - q);
 
-describe("standard losses (proper-losses.md §6; sources per row in standard-losses.ts)", () => {
+describe("standard losses (table L; sources per row in standard-losses.ts)", () => {
   it.each(STANDARD_LOSSES.map((row) => [row.id, row] as const))("%s", (_id, row) => {
     const r = analyseProperness(familyOf(row.spec));
     expect(r.verdict, `${row.source}: ${JSON.stringify(r.findings)}`).toBe(row.verdict);
@@ -65,23 +66,23 @@ describe("standard losses (proper-losses.md §6; sources per row in standard-los
     ]);
   });
 
-  it("hinge with linear partials: the counterexample shows impropriety, L(0.7,1) = 0.6 < L(0.7,0.7) = 0.84 (proper-losses.md §7 #38, computed)", () => {
+  it("hinge with linear partials: the counterexample shows impropriety, L(0.7,1) = 0.6 < L(0.7,0.7) = 0.84 (N38, computed)", () => {
     const r = analyseProperness(familyOf(partials("hinge-linear", (q) => 2 * (1 - q), (q) => 2 * q)));
     expect(r.verdict).toBe("improper");
     expect(nearlyEqual(r.fns!.risk(0.7, 0.7), 0.84)).toBe(true);
     expect(nearlyEqual(r.fns!.risk(0.7, 1), 0.6)).toBe(true);
-    // The minimiser sits at an endpoint (§6 row 14b): q = 0 or 1.
+    // The minimiser sits at an endpoint (row L14b, computed): q = 0 or 1.
     expect([0, 1]).toContain(r.counterexample!.q);
   });
 
-  it("focal γ = 2 at η = 0.7: q* = 0.5784799858, L(η,η) = 0.1994545237 > L(η,q*) = 0.1548042439 (proper-losses.md §7 #35, computed with mpmath)", () => {
+  it("focal γ = 2 at η = 0.7: q* = 0.5784799858, L(η,η) = 0.1994545237 > L(η,q*) = 0.1548042439 (N35 and F1, computed with mpmath; Charoenphakdee et al. 2021, CVPR: focal is not proper)", () => {
     const r = analyseProperness(familyOf(focal(2)));
     expect(r.verdict).toBe("improper");
     const m = minimiseRisk(r.fns!, 0.7);
     expect(Math.abs(m.q - 0.5784799858)).toBeLessThan(1e-9);
     expect(Math.abs(r.fns!.risk(0.7, 0.7) - 0.1994545237)).toBeLessThan(1e-9);
     expect(Math.abs(m.risk - 0.1548042439)).toBeLessThan(1e-9);
-    // At η = ½ the minimiser is ½ by symmetry (§6.3), so a check of η = ½ alone would miss this.
+    // At η = ½ the minimiser is ½ by symmetry (table F, computed), so a check of η = ½ alone would miss this.
     expect(Math.abs(minimiseRisk(r.fns!, 0.5).q - 0.5)).toBeLessThan(1e-8);
   });
 });
@@ -106,7 +107,7 @@ describe("flat intervals and strictness (Bao 2023, Thm 2: strictly proper iff H 
   });
 
   it.each([
-    // Pseudo-spherical α = 5: w ~ q³ near 0 is tiny but positive, so H is strictly concave (GR07 family; proper-losses.md §6 row 15).
+    // Pseudo-spherical α = 5: w ~ q³ near 0 is tiny but positive, so H is strictly concave (GR07 family; row L15).
     ["pseudo-spherical α = 5", (() => {
       const a = 5;
       const n = (q: number) => Math.pow(q ** a + (1 - q) ** a, 1 / a);
@@ -114,13 +115,13 @@ describe("flat intervals and strictness (Bao 2023, Thm 2: strictly proper iff H 
     })()],
     // Polynomial entropy α = 6: w = 30|q − ½|⁴ vanishes only at ½ (Bao 2023, App. B.5).
     ["polynomial entropy α = 6", bayes("poly6", (q) => 2 ** -6 - Math.abs(q - 0.5) ** 6, (q) => -6 * Math.abs(q - 0.5) ** 5 * Math.sign(q - 0.5))],
-    // w = 1/q (asymmetric, RW11 example of proper-losses.md §7 #34): strictly proper.
+    // w = 1/q (asymmetric, row N34): strictly proper (Bao 2023, Thm 2: w > 0).
     ["weight 1/q", weight("inv-q", (q) => 1 / q)],
     // A narrow but positive bump on a small floor: w > 0 everywhere (computed).
     ["weight 1e-3 + narrow bump", weight("bump", (q) => 1e-3 + Math.exp(-(((q - 0.37) / 0.002) ** 2)))],
     // Brier plus 0.01·ℓ_c with c = 0.3137 (w = 2 + 0.01·δ(q − c), RW10 Thm 6): jumps matched in the ratio (1−c) : c.
     ["Brier + 0.01·ℓ_c at c = 0.3137", partials("brier-lc", (q) => (1 - q) ** 2 + (q < 0.3137 ? 0.01 * 0.6863 : 0), (q) => q * q + (q >= 0.3137 ? 0.01 * 0.3137 : 0))],
-    // Adding constants to the partial losses does not change properness (proper-losses.md §1.1, fairness).
+    // Adding constants to the partial losses does not change properness (row C1: Reid & Williamson 2010, §3.1, fairness).
     ["log loss plus constants", partials("log-offset", (q) => 3 - Math.log(q), (q) => 7 - Math.log(1 - q))],
     ["log loss × 1e6", partials("log-big", (q) => -1e6 * Math.log(q), (q) => -1e6 * Math.log(1 - q))],
     ["log loss × 1e-6", partials("log-small", (q) => -1e-6 * Math.log(q), (q) => -1e-6 * Math.log(1 - q))],
@@ -366,7 +367,7 @@ describe("claims", () => {
     // 0-1 loss is proper but not strictly (RW10 footnote 6).
     ["0-1: expect strictly proper", costWeighted(0.5), claim("strictly-proper"), "expect-failed"],
     ["0-1: expect proper", costWeighted(0.5), claim("proper"), null],
-    // Composite convexity: boosting with the identity link is not convex, with the half-logit link it is (proper-losses.md §7 #39).
+    // Composite convexity: boosting with the identity link is not convex, with the half-logit link it is (N39, K7: Reid & Williamson 2010, Thm 24, Cor. 26).
     ["boosting + identity link: expect convex", withLink(BOOSTING, "b", (q) => q, () => 1, () => 0), claim("convex"), "expect-failed"],
     ["boosting + half-logit link: expect convex", withLink(BOOSTING, "b", (q) => 0.5 * Math.log(q / (1 - q)), (q) => 0.5 / (q * (1 - q))), claim("convex"), null],
     ["log without link: expect convex", LOG_NATS, claim("convex"), "expect-undecided"],
@@ -421,7 +422,7 @@ describe("properties (fast-check, seeded; sources in each property)", () => {
     );
   });
 
-  it("Beta(a, b) weights q^{a−1}(1−q)^{b−1} with a, b ∈ [−0.8, 3] are strictly proper (RW10 Thm 6; integrable for a, b > −1, proper-losses.md §6.2)", () => {
+  it("Beta(a, b) weights q^{a−1}(1−q)^{b−1} with a, b ∈ [−0.8, 3] are strictly proper (RW10 Thm 6; integrable for a, b > −1, row L10, computed)", () => {
     fc.assert(
       fc.property(fc.double({ min: -0.8, max: 3, noNaN: true }), fc.double({ min: -0.8, max: 3, noNaN: true }), (a, b) => {
         const r = analyseProperness(familyOf(weight("beta", (q) => Math.pow(q, a - 1) * Math.pow(1 - q, b - 1))));

@@ -2,6 +2,7 @@
  * Tests of posterior recovery for improper losses: η = l0'(q*)/(l0'(q*) − l1'(q*)) (Reid & Williamson
  * 2010, Cor. 12), for the focal loss of Charoenphakdee, Vongkulbhisal, Chairatanakul & Sugiyama 2021,
  * "On Focal Loss for Class-Posterior Probability Estimation: A Theoretical Perspective", CVPR.
+ * Row ids (C…, F…, K…, L…, N…, P…) are rows of test/reference/proper-losses.md, which gives each one's source.
  */
 import { describe, expect, it } from "vitest";
 import { analyseProperness } from "../../server/src/analysis/properness.js";
@@ -11,7 +12,7 @@ import { LOG_NATS, familyOf, focal, partials } from "./standard-losses.js";
 
 const fnsOf = (g: number) => deriveLossFunctions(focal(g)).fns!;
 
-describe("focal loss (proper-losses.md §6.3 and §7 #35–36, computed with mpmath at 30 digits)", () => {
+describe("focal loss (table F and N35–N36, computed with mpmath at 40 digits)", () => {
   it.each([
     [2, 0.7, 0.5784799858],
     [2, 0.9, 0.6942128051],
@@ -27,7 +28,7 @@ describe("focal loss (proper-losses.md §6.3 and §7 #35–36, computed with mpm
     expect(Math.abs(map(qStar) - eta)).toBeLessThan(1e-9);
   });
 
-  it("the map equals the h-transform η = h(q)/(h(q)+h(1−q)), h(v) = v/[(1−v)^γ − γv(1−v)^{γ−1} ln v] (proper-losses.md §6.3, derived there)", () => {
+  it("the map equals the h-transform η = h(q)/(h(q)+h(1−q)), h(v) = v/[(1−v)^γ − γv(1−v)^{γ−1} ln v] (table F: RW10 Cor. 12 applied to the focal partials, computed)", () => {
     for (const g of [1, 2, 3.5]) {
       const h = (v: number) => v / ((1 - v) ** g - g * v * (1 - v) ** (g - 1) * Math.log(v));
       const map = recoveryMap(fnsOf(g));
@@ -59,7 +60,7 @@ describe("other cases", () => {
     for (const q of [0.1, 0.5, 0.77]) expect(Math.abs(map(q) - q)).toBeLessThan(1e-12);
   });
 
-  it("hinge with linear partials: minimisers at the endpoints, so no recovery map (null) and no finding (proper-losses.md §6 row 14b)", () => {
+  it("hinge with linear partials: minimisers at the endpoints, so no recovery map (null) and no finding (row L14b, computed)", () => {
     const spec = partials("hinge-linear", (q) => 2 * (1 - q), (q) => 2 * q, () => -2, () => 2);
     expect(computeRecovery(deriveLossFunctions(spec).fns!)).toBeNull();
     const r = analyseProperness(familyOf(spec));
