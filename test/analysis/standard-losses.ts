@@ -1,7 +1,8 @@
 /**
- * A table of standard binary losses as `LossSpec`s built from JS closures (the rows of §6 of
- * proper-losses.md, plus composite and margin examples of §5), with the verdict their published sources
- * give. Reusable by other analysis tests: `familyOf(spec)` wraps a spec into a parameter-free family.
+ * A table of standard binary losses as `LossSpec`s built from JS closures (the rows of table L of
+ * test/reference/proper-losses.md, plus composite and margin examples of table K), with the verdict their
+ * published sources give. Reusable by other analysis tests: `familyOf(spec)` wraps a spec into a parameter-free family.
+ * Row ids (C…, F…, K…, L…, N…, P…) are rows of test/reference/proper-losses.md, which gives each one's source.
  */
 import type { Claim, LossFamily, LossSpec, RealFn } from "../../server/src/loss-model.js";
 
@@ -63,13 +64,13 @@ export const BOOSTING = partials(
   (q) => 0.5 / (Math.sqrt(q / (1 - q)) * (1 - q) * (1 - q)),
 );
 
-/** Spherical score partial losses (row 7): 1 − q/‖(q,1−q)‖₂ and 1 − (1−q)/‖(q,1−q)‖₂. */
+/** Spherical score partial losses (row L7): 1 − q/‖(q,1−q)‖₂ and 1 − (1−q)/‖(q,1−q)‖₂. */
 function spherical(): LossSpec {
   const n = (q: number) => Math.sqrt(q * q + (1 - q) * (1 - q));
   return partials("spherical", (q) => 1 - q / n(q), (q) => 1 - (1 - q) / n(q));
 }
 
-/** Pseudo-spherical α = 3 (row 15): 1 − q^{α−1}/‖q‖_α^{α−1}. */
+/** Pseudo-spherical α = 3 (row L15): 1 − q^{α−1}/‖q‖_α^{α−1}. */
 function pseudoSpherical(alpha: number): LossSpec {
   const norm = (q: number) => Math.pow(Math.pow(q, alpha) + Math.pow(1 - q, alpha), 1 / alpha);
   return partials(
@@ -79,7 +80,7 @@ function pseudoSpherical(alpha: number): LossSpec {
   );
 }
 
-/** Tsallis entropy H = (1 − η^α − (1−η)^α)/(α−1) (row 11) in the Bayes form. */
+/** Tsallis entropy H = (1 − η^α − (1−η)^α)/(α−1) (row L11) in the Bayes form. */
 export function tsallis(alpha: number): LossSpec {
   return bayes(
     `tsallis-${alpha}`,
@@ -88,7 +89,7 @@ export function tsallis(alpha: number): LossSpec {
   );
 }
 
-/** Polynomial entropy H = 2^{−α} − |η − ½|^α (row 16). */
+/** Polynomial entropy H = 2^{−α} − |η − ½|^α (row L16). */
 function polynomialEntropy(alpha: number): LossSpec {
   return bayes(
     `polynomial-${alpha}`,
@@ -97,12 +98,12 @@ function polynomialEntropy(alpha: number): LossSpec {
   );
 }
 
-/** Cost-weighted misclassification loss ℓ_c (row 12): (1−c)[q < c], c[q ≥ c]. */
+/** Cost-weighted misclassification loss ℓ_c (row L12): (1−c)[q < c], c[q ≥ c]. */
 export function costWeighted(c: number, scale = 1): LossSpec {
   return partials(`cost-${c}`, (q) => (q < c ? scale * (1 - c) : 0), (q) => (q >= c ? scale * c : 0), undefined, undefined, { threshold: c });
 }
 
-/** Focal loss (row 17): −(1−q)^γ ln q, −q^γ ln(1−q), with closed-form derivatives. */
+/** Focal loss (row L17): −(1−q)^γ ln q, −q^γ ln(1−q), with closed-form derivatives. */
 export function focal(g: number): LossSpec {
   return partials(
     `focal-${g}`,
@@ -144,13 +145,13 @@ export const STANDARD_LOSSES: StandardLoss[] = [
     id: "10b Beta(1/2,1/2) partials",
     spec: partials("beta-half-partials", (q) => Math.acos(Math.sqrt(q)) - Math.sqrt(q * (1 - q)), (q) => Math.asin(Math.sqrt(q)) - Math.sqrt(q * (1 - q))),
     verdict: "strictly-proper",
-    source: "computed: closed form of the Beta(½,½) integrals (proper-losses.md §6 row 10b, sympy-checked stationarity)",
+    source: "computed: closed form of the Beta(½,½) integrals of Reid & Williamson 2010, Thm 6 (row L10b; stationarity checked with sympy)",
   },
   { id: "10c Beta(2,2) weight", spec: weight("beta-2-2", (q) => q * (1 - q)), verdict: "strictly-proper", source: "Bao 2023, COLT, Thm 2 via Reid & Williamson 2010 (w > 0 on (0,1))" },
   { id: "10a Beta(0,0) weight = log", spec: weight("beta-0-0", (q) => 1 / (q * (1 - q))), verdict: "strictly-proper", source: "Reid & Williamson 2010, Table 1 (w = 1/(c(1−c)) is log loss)" },
-  { id: "11 Tsallis 1/2", spec: tsallis(0.5), verdict: "strictly-proper", source: "proper-losses.md §6 row 11 (w = α(q^{α−2} + (1−q)^{α−2}) > 0); Bao 2023, Thm 2" },
-  { id: "11 Tsallis 1.5", spec: tsallis(1.5), verdict: "strictly-proper", source: "proper-losses.md §6 row 11; Bao 2023, Thm 2" },
-  { id: "11b Tsallis 3", spec: tsallis(3), verdict: "strictly-proper", source: "proper-losses.md §6 row 11b (w = 3)" },
+  { id: "11 Tsallis 1/2", spec: tsallis(0.5), verdict: "strictly-proper", source: "computed: w = α(q^{α−2} + (1−q)^{α−2}) > 0 (row L11); Bao 2023, Thm 2" },
+  { id: "11 Tsallis 1.5", spec: tsallis(1.5), verdict: "strictly-proper", source: "computed: w > 0 (row L11); Bao 2023, Thm 2" },
+  { id: "11b Tsallis 3", spec: tsallis(3), verdict: "strictly-proper", source: "computed: w = 3 (row L11b); Bao 2023, Thm 2" },
   {
     id: "12 cost-weighted c=0.2",
     spec: costWeighted(0.2),
@@ -179,17 +180,17 @@ export const STANDARD_LOSSES: StandardLoss[] = [
       [0, 0.5],
       [0.5, 1],
     ],
-    source: "proper-losses.md §6 row 14 (w = 4δ(q − ½))",
+    source: "computed: w = 4δ(q − ½), four times the cost-½ loss of Reid & Williamson 2010, Table 1 (row L14)",
   },
-  { id: "14b hinge, linear partials", spec: partials("hinge-linear", (q) => 2 * (1 - q), (q) => 2 * q, () => -2, () => 2), verdict: "improper", source: "computed: proper-losses.md §7 #38, L(0.7,0.7) = 0.84 > L(0.7,1) = 0.6" },
-  { id: "15 pseudo-spherical 3", spec: pseudoSpherical(3), verdict: "strictly-proper", source: "Gneiting & Raftery 2007, JASA 102 (pseudo-spherical family); proper-losses.md §6 row 15" },
+  { id: "14b hinge, linear partials", spec: partials("hinge-linear", (q) => 2 * (1 - q), (q) => 2 * q, () => -2, () => 2), verdict: "improper", source: "computed: L(0.7,0.7) = 0.84 > L(0.7,1) = 0.6 (row N38)" },
+  { id: "15 pseudo-spherical 3", spec: pseudoSpherical(3), verdict: "strictly-proper", source: "Gneiting & Raftery 2007, JASA 102 (pseudo-spherical family, from memory); row L15" },
   { id: "16 polynomial entropy 3", spec: polynomialEntropy(3), verdict: "strictly-proper", source: "Bao 2023, COLT, App. B.5 (w = 0 only at ½)" },
   { id: "16 polynomial entropy 4", spec: polynomialEntropy(4), verdict: "strictly-proper", source: "Bao 2023, COLT, App. B.5" },
-  { id: "17 focal γ=2", spec: focal(2), verdict: "improper", source: "Charoenphakdee et al. 2021, CVPR (not strictly proper); computed: proper-losses.md §7 #35" },
+  { id: "17 focal γ=2", spec: focal(2), verdict: "improper", source: "Charoenphakdee et al. 2021, CVPR (not strictly proper); computed: row N35" },
   { id: "17 focal γ=1", spec: focal(1), verdict: "improper", source: "Charoenphakdee et al. 2021, CVPR" },
 ];
 
-/** Composite examples (§5): a proper loss on probabilities with a link. */
+/** Composite examples (table K): a proper loss on probabilities with a link. */
 export const HALF_LOGIT = (q: number) => 0.5 * logit(q);
 export function withLink(spec: LossSpec, name: string, link: RealFn, dlink?: RealFn, d2link?: RealFn): LossSpec {
   const s: LossSpec = { ...spec, name, link };

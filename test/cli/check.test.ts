@@ -1,7 +1,7 @@
 /**
  * `propriety check` in-process: `main(argv, io)` with an in-memory file system, plus one run on the
- * repository's samples/ through the real file system. The contract is notation.md's "Command line"
- * section: text lines `path:line:col: severity code: message` (1-based), the `--json` object (0-based
+ * repository's samples/ through the real file system. The contract is the "Command line" section of
+ * test/reference/notation.md: text lines `path:line:col: severity code: message` (1-based), the `--json` object (0-based
  * LSP ranges), a SARIF 2.1.0 log, and exit codes 0 / 1 / 2. The numeric engine is being completed in
  * parallel, so nothing here depends on a verdict's value, only on the shape of what is reported.
  */
@@ -63,7 +63,7 @@ async function run(argv: string[], files: Record<string, string>, unreadable: st
 /**
  * A file with clean losses only. The Brier score is strictly proper, and so is any positive multiple of it
  * (Gneiting & Raftery 2007, "Strictly Proper Scoring Rules, Prediction, and Estimation", JASA 102(477);
- * /work/shared/reference/proper-losses.md §6.1, rows 3–5), so no checker may report an error for it.
+ * test/reference/proper-losses.md, rows L3–L5), so no checker may report an error for it.
  */
 const CLEAN = `# Brier scores.
 loss brier {
@@ -180,7 +180,7 @@ describe("--json", () => {
     expect(typo.range).toEqual({ start: { line: 3, character: 22 }, end: { line: 3, character: 24 } });
     const bad = json.files[0]!.losses as { name: string; verdict: string }[];
     expect(bad.map((l) => l.name)).toEqual(["typo", "scale", "half", "range", "call"]);
-    // A loss with errors is not analysed, so its verdict is "unknown" (notation.md: "could not decide").
+    // A loss with errors is not analysed, so its verdict is "unknown" (test/reference/notation.md, "Verdicts": "could not decide").
     expect(bad.every((l) => l.verdict === "unknown")).toBe(true);
     const clean = json.files[1]!.losses as { name: string; params: Record<string, number>; threshold: number }[];
     expect(clean.map((l) => [l.name, l.params, l.threshold])).toEqual([

@@ -44,7 +44,7 @@ describe("weight integrals (Reid & Williamson 2010, JMLR 11, Thm 6 eq. (5))", ()
     }
   });
 
-  it("w = q(1−q), Beta(2,2): l1 = 1/12 − q²/2 + 2q³/3 − q⁴/4, l0 = q³/3 − q⁴/4 (proper-losses.md §6.1 row 10c)", () => {
+  it("w = q(1−q), Beta(2,2): l1 = 1/12 − q²/2 + 2q³/3 − q⁴/4, l0 = q³/3 − q⁴/4 (test/reference/proper-losses.md row L10c, computed by RW10 Thm 6 eq. (5))", () => {
     const r = integrateWeight(expr("q^(2 - 1) * (1 - q)^(2 - 1)"));
     expect(r.ok).toBe(true);
     if (!r.ok) return;
@@ -59,14 +59,14 @@ describe("weight integrals (Reid & Williamson 2010, JMLR 11, Thm 6 eq. (5))", ()
   it("near its vanishing end each partial keeps its relative accuracy (expanded in powers of 1−q and q)", () => {
     const r = integrateWeight(expr("q * (1 - q)"));
     if (!r.ok) throw new Error(r.reason);
-    // With u = 1 − q the row-10c l1 is u³/3 − u⁴/4 (computed by substituting q = 1 − u); the expanded
+    // With u = 1 − q the row-L10c l1 is u³/3 − u⁴/4 (computed by substituting q = 1 − u); the expanded
     // polynomial 1/12 − q²/2 + … would cancel O(1) terms down to ~3e-19 and lose every digit.
     const u = 1e-6;
     const want = u ** 3 / 3 - u ** 4 / 4;
     expect(nearlyEqual(evalIn(r.l1, "q")(1 - u), want, 1e-6, 0)).toBe(true);
   });
 
-  it("w = 2 gives the Brier partials (1−q)², q² (proper-losses.md §6.1 row 3)", () => {
+  it("w = 2 gives the Brier partials (1−q)², q² (test/reference/proper-losses.md row L3; RW10 Thm 6 eq. (5))", () => {
     const r = integrateWeight(expr("2"));
     if (!r.ok) throw new Error(r.reason);
     for (const q of GRID) {

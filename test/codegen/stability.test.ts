@@ -16,7 +16,7 @@ import { checkAst, decode, loadTs, pythonHas, runNumpy, SAMPLES_DIR } from "./su
 const HAS_NUMPY = pythonHas("numpy");
 /** Stable closed forms against stable closed forms: a few ulps. */
 const EXTREME_REL = 1e-12;
-/** q* in proper-losses.md §6.3 is given to 10 digits; |dη/dq| ≈ 1–2 there, so η is good to ~2e-10. */
+/** q* in test/reference/proper-losses.md, table F, is given to 10 digits; |dη/dq| ≈ 1–2 there, so η is good to ~2e-10. */
 const RECOVERY_TOL = 1e-9;
 
 const docs = new Map<string, ReturnType<typeof analyseDocument> | null>();
@@ -182,7 +182,7 @@ describe("reductions and weights", () => {
 });
 
 describe("posterior recovery for the focal loss", () => {
-  // proper-losses.md §6.3 (computed there by minimising the focal risk at 30 digits; the map is
+  // test/reference/proper-losses.md, rows F1–F4 (computed by minimising the focal risk at 40 digits; the map is
   // Reid & Williamson 2010, "Composite Binary Losses", JMLR 11, Cor. 12, as used by Charoenphakdee et al.
   // 2021, CVPR, for the focal loss): minimisers q* for γ = 2 and γ = 1 and the η they come from.
   const CASES = [

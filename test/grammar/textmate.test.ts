@@ -5,7 +5,7 @@
  * Scope names follow the TextMate naming conventions (TextMate 1.x manual, "Language Grammars",
  * §12.4 "Naming Conventions"): common practice, shared by VS Code themes. Expected scopes in the tables
  * are the ones this grammar promises to the themes; the notation they cover is
- * /work/shared/design/notation.md (v1 contract).
+ * test/reference/notation.md (the v1 contract; README.md, "The notation").
  */
 import { beforeAll, describe, expect, it } from "vitest";
 import { readFileSync } from "node:fs";

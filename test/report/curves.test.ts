@@ -160,7 +160,7 @@ describe("computeCurves: conditional risk and its minimiser", () => {
     const focal = lossOf(curves, "focal");
     expect(focal.verdict).toBe("improper");
     const c = focal.conditionalRisk.find((x) => nearlyEqual(x.eta, 0.7))!;
-    // proper-losses.md check 35 (computed there by a 4000-point grid and golden section at 30 digits) for the focal loss of
+    // test/reference/proper-losses.md, rows N35 and F1 (computed: root of ∂L/∂q at 40 digits) for the focal loss of
     // Lin et al. 2017 as analysed by Charoenphakdee et al. 2021, "On Focal Loss for Class-Posterior Probability Estimation", CVPR: γ = 2, η = 0.7.
     expect(Math.abs(c.minimiser - 0.5784799858)).toBeLessThan(MINIMISER_TOL);
     expect(nearlyEqual(c.minimumRisk!, 0.1548042439, 1e-8)).toBe(true);

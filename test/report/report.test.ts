@@ -65,10 +65,10 @@ describe("renderReport", () => {
   });
 
   it("lists every loss with its verdict, λ, modulus coefficient and power, and both exponents", () => {
-    // Log loss: λ = 4 (Agarwal 2014, "Surrogate Regret Bounds for Bipartite Ranking via Strongly Proper Losses", JMLR 15, Ex. 2),
+    // Log loss (test/reference/proper-losses.md row L1): λ = 4 (Agarwal 2014, "Surrogate Regret Bounds for Bipartite Ranking via Strongly Proper Losses", JMLR 15, Ex. 2),
     // δ(ε) ≈ ε²/2 near 0 and exponent ½ by both routes (Bao 2023, "Proper Losses, Moduli of Convexity, and Surrogate Regret Bounds", COLT, §4).
     expect(row("log_loss")).toMatch(/^\|log_loss\|strictly proper\|4\|0\.5\|2\|0\.5\|0\.5\|0\.5\|/);
-    // Brier (y − q)²: λ = 2, δ = ε²/4 exactly (Bao 2023, §4; proper-losses.md check 9).
+    // Brier (y − q)²: λ = 2, δ = ε²/4 exactly (Bao 2023, §4; test/reference/proper-losses.md rows L3, N9).
     expect(row("brier")).toMatch(/^\|brier\|strictly proper\|2\|0\.25\|2\|0\.5\|0\.5\|0\.5\|/);
     expect(row("asymmetric")).toMatch(/^\|asymmetric\|improper\|—\|—\|—\|—\|—\|/);
   });

@@ -2,7 +2,7 @@
  * Semantic diagnostics as data: one annotated document per case. Each `#  ^^^ code: text` line marks the
  * expected issue on the text line above it (see test/support/annotations.ts); a document with no
  * annotation must produce no issue at all. Expected behaviour follows the notation contract
- * (/work/shared/design/notation.md); the codes come from server/src/issues.ts.
+ * (test/reference/notation.md; README.md, "The notation"); the codes come from server/src/issues.ts.
  */
 import { describe, expect, it } from "vitest";
 import { compileLoss } from "../../server/src/semantics/family.js";

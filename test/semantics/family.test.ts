@@ -121,7 +121,7 @@ describe("instantiation", () => {
   it("takes the threshold from its parameter, and 1/2 when a loss has none", () => {
     expect(focal.family.instantiate({}).threshold).toBe(0.3);
     expect(focal.family.instantiate({ c: 0.7 }).threshold).toBe(0.7);
-    // The notation's default decision threshold is 1/2 (notation.md, "threshold").
+    // The notation's default decision threshold is 1/2 (test/reference/notation.md, "Definition forms": `threshold`, ½ when absent).
     expect(losses.get("canon")!.family.instantiate({}).threshold).toBe(0.5);
   });
 });

@@ -78,7 +78,8 @@ describe("completing a missing partial loss", () => {
   });
 
   it("adds l1 to a given l0 with the document's indentation", () => {
-    // Beta(2,2) weight, Buja, Stuetzle & Shen 2005; proper-losses.md row 10c: l1 = 1/12 − q²/2 + 2q³/3 − q⁴/4.
+    // Beta(2,2) weight (Buja, Stuetzle & Shen 2005, from memory); test/reference/proper-losses.md row L10c,
+    // computed by Reid & Williamson 2010, JMLR 11, Thm 6 eq. (5): l1 = 1/12 − q²/2 + 2q³/3 − q⁴/4.
     const after = checkFix("loss a {\n    l$00(q) = q^3 / 3 - q^4 / 4\n}\n", /Add `l1/);
     expect(after).toMatch(/\n {4}l0\(q\) = q\^3 \/ 3 - q\^4 \/ 4\n {4}l1\(q\) = /);
     for (const q of [0.1, 0.5, 0.9]) expect(evalClause(after, "l1", q)).toBeCloseTo(1 / 12 - q ** 2 / 2 + (2 * q ** 3) / 3 - q ** 4 / 4, 12);

@@ -58,7 +58,7 @@ describe("hover on a loss name", () => {
 describe("hover on a loss name, with the engine's figures", () => {
   it("shows λ = 2 and δ(ε) ≈ ε²/4 for the Brier score", () => {
     // Brier: w = 2 (Reid & Williamson 2010, "Composite Binary Losses", JMLR 11, §5), so λ = 2;
-    // f = −H = q² − q has midpoint modulus δ(ε) = ε²/4 (proper-losses.md §2, table: "α = 2 case (Gini, Brier)").
+    // f = −H = q² − q has midpoint modulus δ(ε) = ε²/4 (Bao 2023, COLT, §4, the α = 2 case; test/reference/proper-losses.md rows L3, N9).
     const md = checkHover("loss br$0ier {\n  l1(q) = (1 - q)^2\n  l0(q) = q^2\n}\n");
     expect(md).toContain("**Verdict:** strictly proper");
     expect(md).toMatch(/\*\*λ\*\*[^\n]*: 2\b/);
@@ -126,7 +126,8 @@ describe("hover on a clause name", () => {
   });
 
   it("integrates a polynomial weight into its partial losses: Beta(2,2)", () => {
-    // Buja, Stuetzle & Shen 2005, Beta-family weights; proper-losses.md table row 10c: w = q(1−q) gives
+    // Buja, Stuetzle & Shen 2005, Beta-family weights (from memory); test/reference/proper-losses.md row L10c,
+    // computed by Reid & Williamson 2010, JMLR 11, Thm 6 eq. (5): w = q(1−q) gives
     // l1 = 1/12 − q²/2 + 2q³/3 − q⁴/4 and l0 = q³/3 − q⁴/4.
     const md = checkHover("loss beta22 {\n  weig$0ht(q) = q * (1 - q)\n}\n");
     const l1 = formulaAfter(md, "- l1(q) = ∫_q^1");

@@ -13,7 +13,7 @@ import { parse } from "../../server/src/syntax/parse.js";
 
 const FLOOD_DESK = readFileSync(path.join(__dirname, "../../samples/flood-desk.loss"), "utf8");
 
-/** Agreement required of η recovered through the printed closed form (proper-losses.md §7 suggests 1e-9 for closed forms). */
+/** Agreement required of η recovered through the printed closed form (test/reference/proper-losses.md row C16: 1e-9 for closed forms, common practice). */
 const RECOVERY_TOL = 1e-9;
 /** The reference q* is printed to 10 decimals, so it is exact to 5e-11; the engine's minimiser must agree to well within 1e-9. */
 const REFERENCE_Q_TOL = 1e-9;
@@ -42,7 +42,7 @@ describe("closed-form posterior recovery in the posterior-recovery issue", () =>
     // Focal loss l1 = −(1−q)^γ ln q, l0 = −q^γ ln(1−q) (Charoenphakdee et al. 2021, "On Focal Loss for
     // Class-Posterior Probability Estimation", CVPR); recovery η = l0'(q*)/(l0'(q*) − l1'(q*))
     // (Reid & Williamson 2010, "Composite Binary Losses", JMLR 11, Cor. 12). Check value: at γ = 2 and
-    // η = 0.7 the minimiser is q* = 0.5784799858 (proper-losses.md §6.3, computed there with mpmath).
+    // η = 0.7 the minimiser is q* = 0.5784799858 (test/reference/proper-losses.md row F1, computed with mpmath).
     const doc = analyseDocument(FLOOD_DESK);
     const issue = recoveryIssue(doc, "focal");
     const formula = issue.data?.["formula"];
@@ -60,7 +60,7 @@ describe("closed-form posterior recovery in the posterior-recovery issue", () =>
     expect(Math.abs(eta(qStar) - 0.7)).toBeLessThan(RECOVERY_TOL);
     // The reference minimiser itself (10 decimals) maps back as well.
     expect(Math.abs(eta(0.5784799858) - 0.7)).toBeLessThan(RECOVERY_TOL);
-    // At η = ½ the minimiser is ½ by symmetry (proper-losses.md §6.3), so the map must fix ½.
+    // At η = ½ the minimiser is ½ by symmetry (test/reference/proper-losses.md, table F; computed: l1(q) = l0(1 − q)), so the map must fix ½.
     expect(Math.abs(eta(0.5) - 0.5)).toBeLessThan(RECOVERY_TOL);
   });
 
