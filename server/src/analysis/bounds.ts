@@ -2,7 +2,7 @@
  * Surrogate-regret bounds: the tight direct bound at a threshold c (Reid & Williamson), the ψ-transform
  * of margin losses (Bartlett, Jordan & McAuliffe) and the modulus route (Bao).
  *
- * Units, stated once and used everywhere (proper-losses.md §9, pitfall 1):
+ * Units, stated once and used everywhere (test/reference/proper-losses.md row C13):
  * - "cost-c regret" α = |η − c| when η and q lie on opposite sides of c (RW11 Lemma 26). At c = ½ this
  *   is Bao's R01, which is HALF the usual {0,1}-valued 0-1 regret |2η − 1|.
  * - BJM's θ is the {0,1}-valued 0-1 regret: θ = 2α at c = ½.
@@ -33,7 +33,7 @@ export interface DirectBoundModel {
   slopeRight: number;
   /** The two Bregman branches B_f(c+α ∥ c) and B_f(c−α ∥ c) (null outside [0,1]). */
   branches(alpha: number): { upper: number | null; lower: number | null };
-  /** ψ_RW(c, α) = min of the branches (RW09 Thm 3 / RW11 Thm 25 with ∧, see proper-losses.md §3). */
+  /** ψ_RW(c, α) = min of the branches (RW09 Thm 3 / RW11 Thm 25 with ∧, see test/reference/proper-losses.md row C11). */
   psi(alpha: number): number;
   /** ψ** on [0, α_max], for expected (full-risk) regrets by Jensen. */
   envelope: LowerEnvelope;
@@ -51,7 +51,7 @@ function oneSidedSlope(f: RealFn, x: number, dir: 1 | -1, h: number): number {
   return (-3 * f(x) + 4 * f(x + s) - f(x + 2 * s)) / (2 * s);
 }
 
-/** The Savage slope is trusted when it agrees with the stencils to this (relative): the stencils err by O(√h) at worst for the §6 losses. */
+/** The Savage slope is trusted when it agrees with the stencils to this (relative): the stencils err by O(√h) at worst for the standard losses (test/reference/proper-losses.md, table L). */
 const SAVAGE_AGREE_REL = 1e-2;
 
 /**
@@ -64,7 +64,7 @@ const SAVAGE_AGREE_REL = 1e-2;
  * while finite differences lose digits when H is not smooth at c (e.g. H = 2^{−α} − |η−½|^α with α < 2),
  * and the local exponent needs the slope to ≈1e-12. Where w has a point mass at c, s_c is a supergradient
  * in [f'(c−), f'(c+)]; the lower branch (q = c allowed) then uses min(f'(c+), s_c), which is what the
- * loss's own value at q = c gives (e.g. a margin loss with φ(0) at the boundary: hinge R ≥ 2α, §6 row 14).
+ * loss's own value at q = c gives (e.g. a margin loss with φ(0) at the boundary: hinge R ≥ 2α, test/reference/proper-losses.md row L14).
  */
 export function buildDirectBound(fIn: RealFn, c: number, savageSlope?: number, kinkAtC = false): DirectBoundModel {
   // A throwing closure must not escape: exceptions become NaN, which the hull and the fits skip.

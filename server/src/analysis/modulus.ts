@@ -21,7 +21,7 @@ import { LowerEnvelope } from "./numeric/envelope.js";
 export const MODULUS_GRID = 512;
 /**
  * A midpoint gap below ZERO_GAP_TOL·(1 + max|f|) is a candidate zero: the rounding of (f(a)+f(b))/2 − f(m)
- * is a few ulps of max|f| (≈ 1e-15 relative), and most strictly convex f of the §6 table have gaps ≥ 1e-9
+ * is a few ulps of max|f| (≈ 1e-15 relative), and most strictly convex f of table L (test/reference/proper-losses.md) have gaps ≥ 1e-9
  * at the first grid width. Losses with a high-order zero of w at an endpoint (w ~ t³) fall below it, so a
  * vacuous stretch is only accepted when the gap at half its width is at the rounding level (ROUNDING_GAP_TOL).
  */
@@ -30,7 +30,7 @@ export const ZERO_GAP_TOL = 1e-12;
 export const ROUNDING_GAP_TOL = 1e-15;
 /**
  * Golden-section tolerance on the midpoint (relative to 1 + |a| + |b|). The gap is flat at its minimum, so
- * its error is ≈ ½·g''·Δm² with g'' ≲ 2 for the §6 losses: Δm ≈ 2e-7 gives ≈ 4e-14, far below the 1e-8
+ * its error is ≈ ½·g''·Δm² with g'' ≲ 2 for the losses of table L: Δm ≈ 2e-7 gives ≈ 4e-14, far below the 1e-8
  * target, in about 25 iterations per basin (the cost of every exact δ).
  */
 const MIDPOINT_TOL = 1e-7;

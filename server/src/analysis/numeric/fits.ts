@@ -23,7 +23,7 @@ export interface PowerLaw {
 export const POWER_STABILITY_TOL = 0.05;
 /**
  * A power within this of a rational n/d with d ≤ 4 is snapped to it. The Aitken-extrapolated slopes of
- * the §7 losses land within 1e-6 of their exact powers, and distinct rationals with d ≤ 4 are at least
+ * the losses of test/reference/proper-losses.md land within 1e-6 of their exact powers, and distinct rationals with d ≤ 4 are at least
  * 1/12 apart, so 1e-3 snaps only genuine ties.
  */
 export const POWER_SNAP_TOL = 1e-3;
