@@ -10,7 +10,7 @@
  */
 import { scaleLinear, scaleLog, type ContinuousScale } from "d3-scale";
 import type { LossCurves, SeriesData } from "../../server/src/protocol.js";
-import { escapeMarkup as escapeXml, formatFigure as formatNumber } from "../../server/src/display.js";
+import { escapeMarkup as escapeXml, formatFigure } from "../../server/src/display.js";
 
 /** Number of distinct series colours in viewer.css (classes c0…c7); losses beyond cycle with dashes. */
 export const COLOUR_COUNT = 8;
@@ -84,8 +84,8 @@ const LEGEND_CHAR_PX = 5.6;
 /** Pixel coordinates are clamped to this (an unbounded curve must not produce absurd path numbers). */
 const PIXEL_LIMIT = 1e5;
 
-/** Markup escaping and number formatting, shared with the server-side report (one implementation). */
-export { escapeMarkup as escapeXml, formatFigure as formatNumber } from "../../server/src/display.js";
+/** Markup escaping, shared with the server-side report (one implementation in display.ts). */
+export { escapeMarkup as escapeXml } from "../../server/src/display.js";
 
 /** The index of the sampled η nearest to `eta` (ties to the lower one). */
 export function nearestEtaIndex(etas: number[], eta: number): number {
@@ -164,13 +164,13 @@ export function buildChartSpecs(losses: LossCurves[], view: ViewState, only?: re
       etaShown = c.eta;
       lines.push(line(l.loss, colour, 0, c.series));
       if (Number.isFinite(c.minimiser) && typeof c.minimumRisk === "number") {
-        markers.push({ loss: l.loss, x: c.minimiser, y: c.minimumRisk, colour: colour % COLOUR_COUNT, label: `${l.loss}: minimiser q* = ${formatNumber(c.minimiser)}` });
+        markers.push({ loss: l.loss, x: c.minimiser, y: c.minimumRisk, colour: colour % COLOUR_COUNT, label: `${l.loss}: minimiser q* = ${formatFigure(c.minimiser)}` });
       }
     }
     if (want.has("conditional")) {
       specs.push({
         id: "conditional",
-        title: etaShown === null ? "Conditional risk" : `Conditional risk at η = ${formatNumber(etaShown, 3)}`,
+        title: etaShown === null ? "Conditional risk" : `Conditional risk at η = ${formatFigure(etaShown, 3)}`,
         xLabel: probabilityAxis,
         yLabel: "L(η, q) (units of the loss)",
         xScale: "linear",
@@ -179,14 +179,14 @@ export function buildChartSpecs(losses: LossCurves[], view: ViewState, only?: re
         yDomain: unionRange("conditional"),
         lines,
         markers,
-        rules: etaShown === null ? [] : [{ axis: "x", value: etaShown, colour: null, label: `η = ${formatNumber(etaShown, 3)}` }],
+        rules: etaShown === null ? [] : [{ axis: "x", value: etaShown, colour: null, label: `η = ${formatFigure(etaShown, 3)}` }],
         styles: [{ dash: 0, label: "L(η, q) — dot: its minimiser q*, dashed rule: q = η" }],
         empty: none,
       });
     }
     if (want.has("minimiser")) {
       const mLines = visible.flatMap(({ l, colour }) => (l.minimiser ? [line(l.loss, colour, 0, l.minimiser)] : []));
-      const mMarkers = markers.map((m) => ({ ...m, x: etaShown ?? m.x, y: m.x, label: `${m.loss}: q*(${formatNumber(etaShown, 3)}) = ${formatNumber(m.x)}` }));
+      const mMarkers = markers.map((m) => ({ ...m, x: etaShown ?? m.x, y: m.x, label: `${m.loss}: q*(${formatFigure(etaShown, 3)}) = ${formatFigure(m.x)}` }));
       specs.push({
         id: "minimiser",
         title: "Minimiser of the conditional risk",
@@ -236,7 +236,7 @@ export function buildChartSpecs(losses: LossCurves[], view: ViewState, only?: re
       yDomain: unionRange("weight"),
       lines,
       markers: [],
-      rules: thresholds.map((c) => ({ axis: "x" as const, value: c, colour: null, label: `c = ${formatNumber(c, 3)}` })),
+      rules: thresholds.map((c) => ({ axis: "x" as const, value: c, colour: null, label: `c = ${formatFigure(c, 3)}` })),
       styles: [{ dash: 0, label: "w(q) — dashed rule: decision threshold c" }],
       empty: none ?? (lines.length === 0 ? "no weight curve (improper or not available)" : undefined),
     });
@@ -399,8 +399,8 @@ export function renderChartSvg(spec: ChartSpec, size: ChartSize = DEFAULT_SIZE, 
   // Grid and ticks.
   const xt = tickValues(sx, spec.xScale, 6);
   const yt = tickValues(sy, spec.yScale, 6);
-  const xf = xLog ? (t: number) => formatNumber(t, 2) : sx.tickFormat(6);
-  const yf = yLog ? (t: number) => formatNumber(t, 2) : sy.tickFormat(6);
+  const xf = xLog ? (t: number) => formatFigure(t, 2) : sx.tickFormat(6);
+  const yf = yLog ? (t: number) => formatFigure(t, 2) : sy.tickFormat(6);
   out.push(`<g class="axis x-axis">`);
   for (const t of xt) {
     const px = sx(t).toFixed(1);

@@ -5,7 +5,8 @@
  * It computes nothing about the losses; view state persists with getState/setState.
  */
 import type { CurvesResult, HostToViewer, LossCurves, ViewerToHost } from "../../server/src/protocol.js";
-import { buildChartSpecs, COLOUR_COUNT, DASH_COUNT, escapeXml, formatNumber, nearestEtaIndex, renderChartSvg, type ViewState } from "./draw.js";
+import { buildChartSpecs, COLOUR_COUNT, DASH_COUNT, escapeXml, nearestEtaIndex, renderChartSvg, type ViewState } from "./draw.js";
+import { formatFigure, formatPowerLaw, FIGURE_STYLE, verdictText } from "../../server/src/display.js";
 
 interface VsCodeApi {
   postMessage(message: ViewerToHost): void;
@@ -147,8 +148,8 @@ function renderControls(losses: LossCurves[]): void {
     const value = local ? local.value : p.value;
     if (!local && document.activeElement !== input) input.value = String(value);
     const label = document.querySelector<HTMLSpanElement>(`[data-value-of="${CSS.escape(input.id)}"]`);
-    if (label) label.textContent = formatNumber(local ? local.value : p.value);
-    input.setAttribute("aria-valuetext", formatNumber(value));
+    if (label) label.textContent = formatFigure(local ? local.value : p.value);
+    input.setAttribute("aria-valuetext", formatFigure(value));
   }
 }
 
@@ -170,20 +171,19 @@ document.addEventListener("input", (ev) => {
   const seq = nextSeq++;
   pending.set(paramKey(t.dataset.loss, t.dataset.param), { value, seq });
   const label = document.querySelector<HTMLSpanElement>(`[data-value-of="${CSS.escape(t.id)}"]`);
-  if (label) label.textContent = formatNumber(value);
+  if (label) label.textContent = formatFigure(value);
   post({ type: "setParam", loss: t.dataset.loss, name: t.dataset.param, value, seq });
 });
 
 function verdictCell(l: LossCurves): string {
-  const text = l.verdict === "strictly-proper" ? "strictly proper" : l.verdict === "proper" ? "proper" : l.verdict;
-  return `<td class="verdict-${l.verdict}">${escapeXml(text)}</td>`;
+  return `<td class="verdict-${l.verdict}">${escapeXml(verdictText(l.verdict))}</td>`;
 }
 
 function renderFigures(losses: LossCurves[]): void {
   const rows = losses.map((l, i) => {
     const f = l.figures;
-    const mod = f?.modulus ? `${formatNumber(f.modulus.coefficient, 3)}·ε^${formatNumber(f.modulus.power, 3)}` : "—";
-    return `<tr data-loss="${escapeXml(l.loss)}"><td><span class="swatch c${i % COLOUR_COUNT} d${Math.floor(i / COLOUR_COUNT) % DASH_COUNT}"></span> ${escapeXml(l.loss)}</td>${verdictCell(l)}<td class="num">${formatNumber(f?.lambda)}</td><td class="num">${escapeXml(mod)}</td><td class="num">${formatNumber(f?.exponents.viaModulus, 3)} / ${formatNumber(f?.exponents.direct, 3)}</td><td class="num">${formatNumber(l.threshold, 3)}</td><td>${escapeXml(l.params.map((p) => `${p.name} = ${formatNumber(p.value)}`).join(", "))}</td></tr>`;
+    const mod = f?.modulus ? formatPowerLaw(f.modulus.coefficient, f.modulus.power, { ...FIGURE_STYLE, digits: 3 }) : FIGURE_STYLE.missing;
+    return `<tr data-loss="${escapeXml(l.loss)}"><td><span class="swatch c${i % COLOUR_COUNT} d${Math.floor(i / COLOUR_COUNT) % DASH_COUNT}"></span> ${escapeXml(l.loss)}</td>${verdictCell(l)}<td class="num">${formatFigure(f?.lambda)}</td><td class="num">${escapeXml(mod)}</td><td class="num">${formatFigure(f?.exponents.viaModulus, 3)} / ${formatFigure(f?.exponents.direct, 3)}</td><td class="num">${formatFigure(l.threshold, 3)}</td><td>${escapeXml(l.params.map((p) => `${p.name} = ${formatFigure(p.value)}`).join(", "))}</td></tr>`;
   });
   byId<HTMLDivElement>("figures").innerHTML =
     losses.length === 0
@@ -203,8 +203,8 @@ function render(): void {
   if (etas.length > 0) {
     const k = nearestEtaIndex(etas, state.eta);
     if (document.activeElement !== etaInput || Number(etaInput.value) !== k) etaInput.value = String(k);
-    etaValue.textContent = formatNumber(etas[k]!, 3);
-    etaInput.setAttribute("aria-valuetext", `η = ${formatNumber(etas[k]!, 3)}`);
+    etaValue.textContent = formatFigure(etas[k]!, 3);
+    etaInput.setAttribute("aria-valuetext", `η = ${formatFigure(etas[k]!, 3)}`);
   }
   renderControls(losses);
   renderFigures(losses);

@@ -221,7 +221,7 @@ loss hinge {
     expect(r.code).toMatch(/^def focal_recover_posterior\(q\):/m);
     expect(r.code).toContain("decision threshold: 0.2");
     // The engine's verdict when it decides, else the file's own claim stands in for it.
-    expect(r.code).toMatch(/^# verdict: (improper|not available)/m);
+    expect(r.code).toMatch(/^# verdict: (improper|properness unknown)/m);
     expect(r.fileName).toBe("focal_numpy.py");
   });
 

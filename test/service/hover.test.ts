@@ -62,7 +62,7 @@ describe("hover on a loss name, with the engine's figures", () => {
     const md = checkHover("loss br$0ier {\n  l1(q) = (1 - q)^2\n  l0(q) = q^2\n}\n");
     expect(md).toContain("**Verdict:** strictly proper");
     expect(md).toMatch(/\*\*λ\*\*[^\n]*: 2\b/);
-    expect(md).toContain("≈ 0.25·ε^2");
+    expect(md).toContain("≈ 0.25·ε²");
     expect(md).toContain("| decision regret | via modulus | direct | ψ-transform |");
   });
 

@@ -5,7 +5,7 @@
  */
 import { analyseCurvature, type CurvatureResult } from "./curvature.js";
 import type { Finding, LossFamily, LossFunctions } from "../loss-model.js";
-import { fmt } from "../display.js";
+import { fmt, verdictText as verdictWords } from "../display.js";
 import { analyseProperness, evaluateClaims, type PropernessResult } from "./properness.js";
 
 export type Verdict = "strictly-proper" | "proper" | "improper" | "unknown";
@@ -59,13 +59,6 @@ const IMPROPERNESS_EVIDENCE = new Set<string>(["improper", "l1-increasing", "l0-
 /** The time budget per stage; generous for the CLI, the language server passes its own. */
 export const DEFAULT_STAGE_DEADLINE_MS = 2000;
 
-const VERDICT_TEXT: Record<Verdict, string> = {
-  "strictly-proper": "strictly proper",
-  proper: "proper, not strictly",
-  improper: "improper",
-  unknown: "properness unknown",
-};
-
 /** Analyses a loss at its parameter defaults, and across declared ranges where the checks support it. */
 export function analyseFamily(family: LossFamily, options: AnalyseOptions = {}): LossAnalysis {
   const deadlineMs = options.deadlineMs ?? DEFAULT_STAGE_DEADLINE_MS;
@@ -108,7 +101,7 @@ export function analyseFamily(family: LossFamily, options: AnalyseOptions = {}):
   const bestExponent = known.length > 0 ? Math.max(...known) : null;
   findings.push(...evaluateClaims(family, prop, { lambda: curvature?.lambda ?? null, exponent: bestExponent }));
 
-  const verdictText = VERDICT_TEXT[prop.verdict];
+  const verdictText = verdictWords(prop.verdict);
   let summary = verdictText;
   if (curvature) summary = `${verdictText} · ${curvature.summary}`;
   else if (prop.verdict === "improper" && prop.counterexample) {
@@ -148,6 +141,6 @@ export function analyseFamily(family: LossFamily, options: AnalyseOptions = {}):
 function emptyAnalysis(params: Record<string, number>, threshold: number, findings: Finding[]): LossAnalysis {
   return {
     verdict: "unknown", counterexample: null, flatInterval: null, lambda: null, modulus: null,
-    exponents: { viaModulus: null, direct: null }, threshold, params, summary: VERDICT_TEXT.unknown, findings,
+    exponents: { viaModulus: null, direct: null }, threshold, params, summary: verdictWords("unknown"), findings,
   };
 }

@@ -12,6 +12,7 @@
  * The Savage partials, the weight integral, the weight by stationarity and the posterior-recovery map are
  * the semantic layer's derivations (semantics/derived.ts), shared with hovers and quick fixes.
  */
+import { CODE_STYLE, formatNumber, formatPowerLaw, verdictText, type VerdictName } from "../display.js";
 import type { DefinitionForm } from "../loss-model.js";
 import type { LossAnalysis } from "../analysis/analyse.js";
 import { nearlyEqual } from "../analysis/numeric/tolerance.js";
@@ -45,7 +46,7 @@ export type InputScale = "prob" | "score";
 
 /** What the engine said about the loss, as printed in the header. */
 export interface EngineFacts {
-  verdict: string;
+  verdict: VerdictName;
   lambda: number | null;
   exponents: { viaModulus: number | null; direct: number | null };
   modulus: { coefficient: number; power: number } | null;
@@ -440,22 +441,10 @@ function printShort(e: Expr): string {
 }
 
 
-/** Formats a figure for a header line (10 significant digits, no trailing noise). */
-export function formatFigure(x: number): string {
-  if (!Number.isFinite(x)) return String(x);
-  return String(Number(x.toPrecision(10)));
-}
-
-const VERDICT_TEXT: Record<string, string> = {
-  "strictly-proper": "strictly proper",
-  proper: "proper (not strictly)",
-  improper: "improper",
-};
-
 /** The describing lines of one generated loss (no comment markers; the emitters add them). */
 export function lossHeaderLines(loss: LoweredLoss, source: string, functionName: string, recoverName: string | null): string[] {
   const e = loss.engine;
-  const na = "not available";
+  const figure = (x: number | null) => formatNumber(x, CODE_STYLE);
   const lines: string[] = [`loss \`${loss.name}\` from ${source} (form: ${FORM_TEXT[loss.form]}), generated as ${functionName}`];
   if (e.improper) {
     lines.push(
@@ -464,13 +453,13 @@ export function lossHeaderLines(loss: LoweredLoss, source: string, functionName:
     );
   }
   const at = loss.overridden ? " (engine figures are for the parameter defaults; not re-analysed at the values baked in)" : "";
-  lines.push(`verdict: ${VERDICT_TEXT[e.verdict] ?? `${na} (the engine's verdict is "${e.verdict}")`}${at}`);
-  lines.push(`lambda (inf of the weight function): ${e.lambda === null ? na : formatFigure(e.lambda)}`);
+  lines.push(`verdict: ${verdictText(e.verdict)}${at}`);
+  lines.push(`lambda (inf of the weight function): ${figure(e.lambda)}`);
   const x = e.exponents;
-  lines.push(`surrogate-regret exponents: via modulus ${x.viaModulus === null ? na : formatFigure(x.viaModulus)}; direct ${x.direct === null ? na : formatFigure(x.direct)}`);
-  if (e.modulus) lines.push(`modulus of convexity: delta(eps) ~ ${formatFigure(e.modulus.coefficient)} * eps^${formatFigure(e.modulus.power)}`);
-  lines.push(`parameters (baked in): ${loss.params.length === 0 ? "none" : loss.params.map((p) => `${p.name} = ${formatFigure(p.value)}`).join(", ")}`);
-  lines.push(`decision threshold: ${formatFigure(loss.threshold)}`);
+  lines.push(`surrogate-regret exponents: via modulus ${figure(x.viaModulus)}; direct ${figure(x.direct)}`);
+  if (e.modulus) lines.push(`modulus of convexity: delta(eps) ~ ${formatPowerLaw(e.modulus.coefficient, e.modulus.power, CODE_STYLE)}`);
+  lines.push(`parameters (baked in): ${loss.params.length === 0 ? "none" : loss.params.map((p) => `${p.name} = ${figure(p.value)}`).join(", ")}`);
+  lines.push(`decision threshold: ${figure(loss.threshold)}`);
   lines.push(loss.input === "prob" ? "input: pred holds probabilities q in [0, 1]" : "input: pred holds scores v (real numbers)");
   if (loss.linkNote) lines.push(`link: ${loss.linkNote}`);
   lines.push(`partial losses: y = 1: ${loss.formulaPos}; y = 0: ${loss.formulaNeg}`);

@@ -1,9 +1,9 @@
 /** Code lenses (one line above each loss with the engine's summary) and the loss summary for the status bar. */
+import { formatNumber, PROSE_STYLE, verdictText } from "../display.js";
 import type { Span } from "../issue.js";
 import type { LossAnalysis } from "../analysis/analyse.js";
 import type { DocumentAnalysis } from "../pipeline/stages.js";
 import type { LossSummaryResult } from "../protocol.js";
-import { formatNumber } from "./hover.js";
 import { findLossAt } from "./navigation.js";
 
 export interface CodeLens {
@@ -14,8 +14,8 @@ export interface CodeLens {
 
 /** A short figure line: verdict · λ · both exponents. */
 export function shortSummary(a: LossAnalysis): string {
-  const verdict = a.verdict === "strictly-proper" ? "strictly proper" : a.verdict;
-  return `${verdict} · λ ${formatNumber(a.lambda)} · exponents ${formatNumber(a.exponents.viaModulus)} / ${formatNumber(a.exponents.direct)}`;
+  const figure = (x: number | null) => formatNumber(x, PROSE_STYLE);
+  return `${verdictText(a.verdict)} · λ ${figure(a.lambda)} · exponents ${figure(a.exponents.viaModulus)} / ${figure(a.exponents.direct)}`;
 }
 
 /** One lens per loss, titled with the engine summary (or why there is none yet). */

@@ -11,7 +11,7 @@ import type { CurvatureResult } from "../analysis/curvature.js";
 import { sampleCurves, series, type CurveSet, type Series } from "../analysis/curves.js";
 import { boundedUnitFn } from "../analysis/numeric/limits.js";
 import type { LossFunctions } from "../loss-model.js";
-import { fmt } from "../display.js";
+import { fmt, verdictText } from "../display.js";
 import { minimiseRisk } from "../analysis/recovery.js";
 import type { CurvesParams, CurvesResult, LossCurves, LossFigures, SeriesData } from "../protocol.js";
 import type { DocumentAnalysis, LossReport } from "../pipeline/stages.js";
@@ -164,10 +164,6 @@ function curvesForLoss(at: PinnedAnalysis, report: LossReport, etas: number[], p
     minimiser,
     ranges,
   };
-}
-
-function verdictText(v: LossCurves["verdict"]): string {
-  return v === "strictly-proper" ? "strictly proper" : v === "proper" ? "proper (not strictly)" : v === "improper" ? "improper" : "verdict unknown";
 }
 
 /** The curves of the loss itself (partials, H, link) without the curvature analysis, for improper losses. */

@@ -2,8 +2,8 @@
  * Hover texts (Markdown) for every name the notation knows: losses (the engine's figures), clause names
  * (their derived formulas), parameters, helpers, built-ins, constants and clause variables.
  */
+import { formatNumber, formatPowerLaw, NOT_AVAILABLE, PROSE_STYLE, verdictText } from "../display.js";
 import type { Span } from "../issue.js";
-import type { LossAnalysis } from "../analysis/analyse.js";
 import { BUILTINS, CONSTANTS } from "../semantics/builtins.js";
 import { CLAUSE_DOCS, describeForm, type ClauseName, type LossInfo, type ParamInfo, type SemanticModel } from "../semantics/model.js";
 import { showBest } from "../semantics/derived/pretty.js";
@@ -20,35 +20,16 @@ export interface HoverResult {
   span: Span;
 }
 
-const NA = "not available";
-
-/** A figure for display: 4 significant digits, ∞ for infinities, "not available" for null or NaN (never "NaN"). */
-export function formatNumber(x: number | null | undefined): string {
-  if (x === null || x === undefined || Number.isNaN(x)) return NA;
-  if (x === Infinity) return "∞";
-  if (x === -Infinity) return "−∞";
-  if (x === 0) return "0";
-  const a = Math.abs(x);
-  if (a >= 1e-3 && a < 1e6) return String(Number(x.toPrecision(4)));
-  return x.toExponential(3);
-}
+/** A figure in a hover sentence: "not available" (never "NaN") where the engine gave none. */
+const figure = (x: number | null | undefined): string => formatNumber(x, PROSE_STYLE);
 
 function code(s: string): string {
   return "`" + s.replace(/`/g, "'") + "`";
 }
 
-function verdictText(v: LossAnalysis["verdict"]): string {
-  switch (v) {
-    case "strictly-proper": return "strictly proper";
-    case "proper": return "proper (not strictly)";
-    case "improper": return "improper";
-    case "unknown": return "unknown (the engine could not decide)";
-  }
-}
-
 function paramSummary(params: Record<string, number>): string {
   const entries = Object.entries(params);
-  return entries.length === 0 ? "" : ` at ${entries.map(([k, v]) => `${k} = ${formatNumber(v)}`).join(", ")}`;
+  return entries.length === 0 ? "" : ` at ${entries.map(([k, v]) => `${k} = ${figure(v)}`).join(", ")}`;
 }
 
 /** The Markdown for a loss: verdict, evidence, λ, modulus, exponents, bounds, minimiser and recovery. */
@@ -67,40 +48,40 @@ export function describeLoss(model: SemanticModel, report: LossReport): string {
   lines.push("", `**Verdict:** ${verdictText(a.verdict)}${paramSummary(a.params)}`);
   if (a.counterexample) {
     const c = a.counterexample;
-    lines.push(`- counterexample: at η = ${formatNumber(c.eta)} the prediction q = ${formatNumber(c.q)} has conditional risk ${formatNumber(c.riskAtQ)} < L(η, η) = ${formatNumber(c.riskAtEta)}`);
+    lines.push(`- counterexample: at η = ${figure(c.eta)} the prediction q = ${figure(c.q)} has conditional risk ${figure(c.riskAtQ)} < L(η, η) = ${figure(c.riskAtEta)}`);
   }
-  if (a.flatInterval) lines.push(`- Bayes risk affine on [${formatNumber(a.flatInterval[0])}, ${formatNumber(a.flatInterval[1])}]`);
+  if (a.flatInterval) lines.push(`- Bayes risk affine on [${figure(a.flatInterval[0])}, ${figure(a.flatInterval[1])}]`);
   if (a.paramReport) lines.push(`- ${a.paramReport}`);
-  const at = a.lambdaAt ? ` (${a.lambdaAt.approached ? "approached" : "attained"} at q = ${formatNumber(a.lambdaAt.q)})` : "";
-  lines.push(`- **λ** (inf of the weight w; strongly proper iff λ > 0): ${formatNumber(a.lambda)}${a.lambda === null ? "" : at}`);
+  const at = a.lambdaAt ? ` (${a.lambdaAt.approached ? "approached" : "attained"} at q = ${figure(a.lambdaAt.q)})` : "";
+  lines.push(`- **λ** (inf of the weight w; strongly proper iff λ > 0): ${figure(a.lambda)}${a.lambda === null ? "" : at}`);
   lines.push(a.modulus
-    ? `- **δ(ε) near 0** ≈ ${formatNumber(a.modulus.coefficient)}·ε^${formatNumber(a.modulus.power)}`
-    : `- **δ(ε) near 0**: ${NA}`);
+    ? `- **δ(ε) near 0** ≈ ${formatPowerLaw(a.modulus.coefficient, a.modulus.power, PROSE_STYLE)}`
+    : `- **δ(ε) near 0**: ${NOT_AVAILABLE}`);
   lines.push("  (midpoint modulus of f = −H: δ(ε) = inf { (f(η) + f(η′))/2 − f((η + η′)/2) : |η − η′| ≥ ε })");
-  lines.push(`- **exponents** of the surrogate-regret bounds: via the modulus ${formatNumber(a.exponents.viaModulus)} · direct ${formatNumber(a.exponents.direct)}${a.threshold !== 0.5 ? ` (threshold c = ${formatNumber(a.threshold)})` : ""}`);
+  lines.push(`- **exponents** of the surrogate-regret bounds: via the modulus ${figure(a.exponents.viaModulus)} · direct ${figure(a.exponents.direct)}${a.threshold !== 0.5 ? ` (threshold c = ${figure(a.threshold)})` : ""}`);
   if (a.exponentNote) lines.push(`  ${a.exponentNote}`);
   if (a.boundTable && a.boundTable.length > 0) {
     lines.push("", `Surrogate regret needed for a decision regret of at most…${a.boundUnits ? ` (${a.boundUnits})` : ""}`, "");
     lines.push("| decision regret | via modulus | direct | ψ-transform |", "|---|---|---|---|");
     for (const r of a.boundTable.slice(0, 6)) {
-      lines.push(`| ${formatNumber(r.decisionRegret)} | ${formatNumber(r.viaModulus)} | ${formatNumber(r.direct)} | ${formatNumber(r.psiTransform)} |`);
+      lines.push(`| ${figure(r.decisionRegret)} | ${figure(r.viaModulus)} | ${figure(r.direct)} | ${figure(r.psiTransform)} |`);
     }
   } else {
-    lines.push(`- bound table: ${NA}`);
+    lines.push(`- bound table: ${NOT_AVAILABLE}`);
   }
   if (a.verdict === "improper") {
     if (a.minimiser && a.minimiser.etas.length > 0) {
       const n = Math.min(a.minimiser.etas.length, a.minimiser.qs.length);
       const step = Math.max(1, Math.floor(n / 5));
       const pairs: string[] = [];
-      for (let i = 0; i < n; i += step) pairs.push(`${formatNumber(a.minimiser.etas[i])} → ${formatNumber(a.minimiser.qs[i])}`);
+      for (let i = 0; i < n; i += step) pairs.push(`${figure(a.minimiser.etas[i])} → ${figure(a.minimiser.qs[i])}`);
       lines.push(`- **minimiser** q*(η): ${pairs.join(", ")}`);
     } else {
-      lines.push(`- minimiser q*(η): ${NA}`);
+      lines.push(`- minimiser q*(η): ${NOT_AVAILABLE}`);
     }
     const rec = recoveryFormula(model, info);
     if (rec) lines.push(`- **posterior recovery**: η = ${code(rec)} at q = q*(η)`);
-    if (a.recovery) lines.push(`  recovery checked: max error ${formatNumber(a.recovery.maxError)}, ${a.recovery.monotone ? "monotone (η is recoverable)" : "not monotone (η is not recoverable everywhere)"}`);
+    if (a.recovery) lines.push(`  recovery checked: max error ${figure(a.recovery.maxError)}, ${a.recovery.monotone ? "monotone (η is recoverable)" : "not monotone (η is not recoverable everywhere)"}`);
   }
   lines.push("", `_${a.summary}_`);
   return lines.join("\n");
@@ -164,8 +145,8 @@ export function describeClause(model: SemanticModel, loss: LossInfo, clause: Cla
 
 function describeParam(info: ParamInfo, where: string, model: SemanticModel): string {
   const d = info.decl;
-  const range = info.lo !== null || info.hi !== null ? ` in [${formatNumber(info.lo)}, ${formatNumber(info.hi)}]` : "";
-  const lines = [`**${where} parameter ${code(d.name.name)}**`, "", `default ${formatNumber(info.value)}${range || " (no declared range)"}`];
+  const range = info.lo !== null || info.hi !== null ? ` in [${figure(info.lo)}, ${figure(info.hi)}]` : "";
+  const lines = [`**${where} parameter ${code(d.name.name)}**`, "", `default ${figure(info.value)}${range || " (no declared range)"}`];
   if (d.doc) lines.push("", d.doc);
   if (d.global) {
     const users = model.losses.filter((l) => l.usedGlobals.includes(d.name.name)).map((l) => code(l.name));

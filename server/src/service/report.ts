@@ -10,7 +10,7 @@
 import type { CurvesResult, LossCurves } from "../protocol.js";
 import { computeCurves } from "./curves.js";
 import type { DocumentAnalysis, LossReport } from "../pipeline/stages.js";
-import { escapeMarkup as escapeHtml, formatFigure } from "../display.js";
+import { escapeMarkup as escapeHtml, formatFigure, verdictText } from "../display.js";
 
 export interface ReportOptions {
   /** Text of dist/report-page.js (the page script, drawing with client/media/draw.ts). */
@@ -40,8 +40,6 @@ export const REPORT_CAUTION =
 
 const DEFAULT_REPORT_ETA = 0.7;
 
-export { escapeMarkup as escapeHtml, formatFigure } from "../display.js";
-
 /** A 32-bit FNV-1a hash as 8 hex digits (for the deterministic default nonce). */
 function fnv1a(parts: string[]): string {
   let h = 0x811c9dc5;
@@ -62,10 +60,6 @@ function scriptSafe(text: string): string {
 /** JSON safe inside <script type="application/json">: `<` escaped, so no tag can close it. */
 function jsonSafe(value: unknown): string {
   return JSON.stringify(value).replace(/</g, "\\u003c").replace(/\u2028/g, "\\u2028").replace(/\u2029/g, "\\u2029");
-}
-
-function verdictText(v: LossCurves["verdict"]): string {
-  return v === "strictly-proper" ? "strictly proper" : v === "proper" ? "proper, not strictly" : v;
 }
 
 /** The figures of one loss: the document's analysis where it decided, else the curves' (same defaults). */
