@@ -1,4 +1,6 @@
-// Bundles the three entry points with esbuild (CommonJS for Node 20 and VS Code's loader).
+// Bundles with esbuild: the three Node entry points (extension, language server, CLI; CommonJS for Node 20
+// and VS Code's loader) and, when their sources exist, three browser-side outputs (the viewer and
+// report-page scripts as IIFEs, and the viewer stylesheet): six files in dist/.
 import { build } from "esbuild";
 import { mkdirSync } from "node:fs";
 

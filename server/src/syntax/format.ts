@@ -1,5 +1,5 @@
 /**
- * The canonical layout of `.loss` files (the formatter behind "Format Document" and `propriety fmt`).
+ * The canonical layout of `.loss` files (the formatter behind the editor's "Format Document").
  *
  * Layout: one item per line group with a blank line between top-level items; loss bodies indented
  * (2 spaces by default), one clause per line; spaces around binary operators except `^`; numbers and
