@@ -18,7 +18,7 @@ import {
 } from "./support.js";
 
 const HAS_NUMPY = pythonHas("numpy");
-/** Points per loss and label (the brief asks for at least 1000). */
+/** Points per loss and label: over 1000, so each loss is exercised across (0, 1) including both decades next to the endpoints. */
 const N_POINTS = 1200;
 /** Known kinks and jumps of the samples, on each input scale (finite differences skip their neighbourhood). */
 const KINKS: Record<string, { prob?: number[]; score?: number[] }> = {

@@ -10,7 +10,7 @@
  * φ(v) for y = 1 and φ(−v) for y = 0. Probability input and score input are related through the link
  * (declared, inverted symbolically, implied by a margin loss, or the canonical link ψ' = w, RW10 §6.1).
  * The Savage partials, the weight integral, the weight by stationarity and the posterior-recovery map are
- * the semantic layer's derivations (semantics/derived.ts), shared with hovers and quick fixes.
+ * the semantic layer's derivations (semantics/derived/), shared with hovers and quick fixes.
  */
 import { CODE_STYLE, formatNumber, formatPowerLaw, verdictText, type VerdictName } from "../display.js";
 import type { DefinitionForm } from "../loss-model.js";

@@ -1,7 +1,7 @@
 /**
  * Code actions: quick fixes dispatched on issue codes, and loss-level refactors. The closed-form formulas
  * they insert (the Savage partials of a declared Bayes risk, the missing partial loss by the integral
- * form, the posterior-recovery map) come from the semantic layer's derivations (semantics/derived.ts),
+ * form, the posterior-recovery map) come from the semantic layer's derivations (semantics/derived/),
  * applied to the clauses as written with helpers inlined.
  */
 import type { Expr } from "../syntax/ast.js";
