@@ -5,7 +5,7 @@
  * Row ids (C…, F…, K…, L…, N…, P…) are rows of test/reference/proper-losses.md, which gives each one's source.
  */
 import { describe, expect, it } from "vitest";
-import { analyseCurvature, formatExponent } from "../../server/src/analysis/curvature.js";
+import { analyseCurvature } from "../../server/src/analysis/curvature.js";
 import { sampleCurves } from "../../server/src/analysis/curves.js";
 import { nearlyEqual } from "../../server/src/analysis/numeric/tolerance.js";
 import {
@@ -172,7 +172,7 @@ describe("exponents by both routes (row C15 and the exponents column of table L;
     expect(res.exponents.explanation).toBeNull();
     expect(res.modulus!.power).toBe(2);
     expect(Math.abs(res.modulus!.coefficient - 0.5)).toBeLessThan(1e-5);
-    expect(res.summary).toBe("λ = 4 · δ ≈ 0.5ε² · exponents ½ / ½");
+    expect(res.summary).toBe("λ = 4 · δ ≈ 0.5·ε² · exponents ½ / ½");
   });
 
   it("Beta(2,2): modulus exponent ⅓, direct ½, explained by w vanishing at an endpoint (row L10c, computed)", () => {
@@ -309,16 +309,6 @@ describe("guards", () => {
     const res = analyseCurvature(convexH);
     expect(res.lambda).toBeNull();
     expect(res.findings.some((f) => f.code === "analysis-unknown" && f.message.includes("negative"))).toBe(true);
-  });
-});
-
-describe("formatExponent (display)", () => {
-  it("prints exponents 1/p as fractions", () => {
-    expect(formatExponent(2)).toBe("½");
-    expect(formatExponent(3)).toBe("⅓");
-    expect(formatExponent(1)).toBe("1");
-    expect(formatExponent(1.5)).toBe("⅔");
-    expect(formatExponent(null)).toBe("—");
   });
 });
 

@@ -14,18 +14,16 @@
  * - Bartlett, Jordan & McAuliffe 2006, "Convexity, Classification, and Risk Bounds", JASA 101 (ψ-transform).
  */
 import type { Finding, LossFunctions, RealFn } from "../loss-model.js";
-import { fmt } from "../display.js";
+import { fmt, formatExponent, formatPowerLaw, MESSAGE_STYLE } from "../display.js";
 import { boundedUnitFn } from "./numeric/limits.js";
 import { buildModulusModel, sampleUnitGrid, type ModulusModel, type SimonenkoRange, type UnitGrid } from "./modulus.js";
 import { buildDirectBound, buildPsiTransform, modulusRouteBound, type DirectBoundModel, type PsiTransformModel } from "./bounds.js";
 import { numericWeight, scanWeightFeatures, type WeightFeatures } from "./weight-features.js";
 import { crossCheckedLambda, estimateLambda, type LambdaEstimate } from "./lambda.js";
-import { EXPONENT_SAME_TOL, explainExponents, formatExponent, formatPower } from "./exponents.js";
+import { EXPONENT_SAME_TOL, explainExponents } from "./exponents.js";
 
 /** Re-exported so callers of the curvature analysis find its parts in one module. */
 export { detectWeightFeatures, numericWeight, type PointMass, type WeightFeatures } from "./weight-features.js";
-export { formatExponent } from "./exponents.js";
-
 
 /** One row of the inverse table: the surrogate regret that guarantees a decision regret. */
 export interface InverseTableRow {
@@ -420,7 +418,7 @@ function summaryLine(lambda: number | null, lambdaAt: LambdaStep["lambdaAt"], mo
     vacuousBelow !== null
       ? `δ** = 0 below ε = ${fmt(vacuousBelow, 4)}`
       : near
-        ? `δ ≈ ${fmt(near.coefficient, 4)}${formatPower(near.power)}`
+        ? `δ ≈ ${formatPowerLaw(near.coefficient, near.power, { ...MESSAGE_STYLE, digits: 4 })}`
         : "δ unknown";
   return `${lambdaText} · ${modulusText} · exponents ${formatExponent(near?.power ?? null)} / ${formatExponent(directLocal?.power ?? null)}`;
 }

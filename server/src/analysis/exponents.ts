@@ -2,46 +2,15 @@
  * The exponents of the two surrogate-regret bounds (decision regret = O(R^exponent)): the modulus route
  * (Bao 2023, "Proper Losses, Moduli of Convexity, and Surrogate Regret Bounds", COLT, Cor. 7: exponent
  * 1/p for δ** ~ ε^p) and the direct bound at the threshold (Reid & Williamson 2009, "Surrogate Regret
- * Bounds for Proper Losses", ICML, Thm 3), one sentence on why they differ, and their short printed forms.
+ * Bounds for Proper Losses", ICML, Thm 3) and one sentence on why they differ; their printed forms are
+ * display.ts's formatExponent and formatPowerLaw.
  */
-import { snapRational, type PowerLaw } from "./numeric/fits.js";
+import type { PowerLaw } from "./numeric/fits.js";
 import { fmt } from "../display.js";
 import type { WeightFeatures } from "./weight-features.js";
 
 /** Two exponents closer than this are "the same" (they are snapped rationals or estimates good to 1e-3). */
 export const EXPONENT_SAME_TOL = 1e-3;
-
-const FRACTIONS: Record<string, string> = { "1/2": "½", "1/3": "⅓", "2/3": "⅔", "1/4": "¼", "3/4": "¾", "1/5": "⅕", "1/6": "⅙", "1/8": "⅛" };
-const SUPERSCRIPTS = "⁰¹²³⁴⁵⁶⁷⁸⁹";
-
-/** An exponent 1/p (p the power) as a short fraction when p is rational with a small denominator. */
-export function formatExponent(power: number | null): string {
-  if (power === null || !Number.isFinite(power) || power <= 0) return "—";
-  const p = snapRational(power, 1e-9);
-  if (p !== null) {
-    for (let d = 1; d <= 4; d++) {
-      const num = Math.round(p * d);
-      if (Math.abs(num / d - p) < 1e-9) {
-        // Exponent 1/p = d/num, reduced.
-        const g = gcd(d, num);
-        const key = `${d / g}/${num / g}`;
-        if (num / g === 1) return String(d / g);
-        return FRACTIONS[key] ?? key;
-      }
-    }
-  }
-  return fmt(1 / power, 3);
-}
-
-function gcd(a: number, b: number): number {
-  return b === 0 ? a : gcd(b, a % b);
-}
-
-/** "ε²", "ε³", "ε^2.5". */
-export function formatPower(p: number): string {
-  if (Number.isInteger(p) && p >= 0 && p < 10) return "ε" + SUPERSCRIPTS[p]!;
-  return `ε^${fmt(p, 4)}`;
-}
 
 export interface ExplainInput {
   viaModulus: number | null;
