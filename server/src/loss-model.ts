@@ -101,10 +101,25 @@ export type ClauseKey =
   | `expect:${number}`
   | `param:${string}`;
 
+/**
+ * Why an "analysis-unknown" finding could not decide, as data: consumers and tests branch on this, never
+ * on the message's wording.
+ * - "time-budget": the wall-clock budget ran out (a last resort; every search is bounded in steps first);
+ * - "not-derivable": the loss functions could not be derived;
+ * - "non-finite": a value needed (a partial loss, H, w) is not finite inside (0, 1);
+ * - "negative-weight": w < 0 somewhere, so the curvature figures would assume a properness the loss lacks;
+ * - "threshold-outside": the threshold is outside (0, 1) and ½ is used instead;
+ * - "not-calibrated": the ψ-transform of a margin loss vanishes for some θ > 0;
+ * - "unstable-estimate": a fitted power near 0 is not stable, or two estimates contradict each other.
+ */
+export type UnknownReason = "time-budget" | "not-derivable" | "non-finite" | "negative-weight" | "threshold-outside" | "not-calibrated" | "unstable-estimate";
+
 export interface Finding {
   code: IssueCode;
   clause: ClauseKey;
   message: string;
+  /** For "analysis-unknown" findings of the engine: why it could not decide. */
+  reason?: UnknownReason;
   /** Overrides the registry's default severity. */
   severity?: Severity;
   /** Evidence: the point(s) and values where the property fails, suggested text for quick fixes, … */
@@ -144,5 +159,40 @@ export interface LossFunctions {
   /** Margin function φ for margin losses. */
   margin: RealFn | null;
   /** Notes from the derivation the user should see (e.g. "H computed by minimisation over v ∈ [−40, 40]"). */
-  notes: string[];
+  notes: Note[];
+}
+
+/**
+ * What an engine note is about. Notes are statements for hovers, reports and the curve viewer; consumers
+ * choose them by kind (e.g. the curves of an improper loss leave out the notes about curves that are not
+ * drawn) and show `text`, never matching the wording.
+ */
+export type NoteKind =
+  // How the derived model was obtained (derive.ts, properness.ts).
+  | "derivation" // how the partial losses and H were obtained (Savage form, integral representation, minimisation)
+  | "numeric-derivative" // a derivative is a central difference (no closed form was given)
+  | "link" // how the link was obtained (canonical, implied by a margin function)
+  | "bayes-on-diagonal" // H(η) = L(η, η) because the loss was found proper
+  // Curvature (curvature.ts).
+  | "numeric-weight" // w from second differences of H
+  | "lambda-cross-check" // λ taken from second differences of H instead of the supplied weight
+  | "strong-properness" // λ > 0: R(η,q) ≥ (λ/2)(η−q)²
+  | "lambda-zero" // λ = 0, with where it is attained or approached
+  | "psi-threshold" // the ψ-transform is left out at a threshold other than ½
+  | "route-comparison" // the bounds of the routes at one surrogate regret
+  // Sampled curves (curves.ts).
+  | "loss-samples" // non-finite samples of l1, l0, H or the link
+  | "weight-samples" // non-finite samples of w
+  | "modulus-samples" // non-finite samples of δ or δ**
+  | "bound-samples" // non-finite samples of a bound curve
+  | "point-mass" // w has a point mass, not drawn as a function
+  | "modulus-unavailable" // δ and δ** could not be drawn
+  | "modulus-vacuous" // the modulus-route bound curve stops where δ** = 0
+  | "bound-axes" // what the axes of the bound curves are
+  | "curves-failed"; // the curves could not be sampled
+
+/** One engine note: its kind (data) and its sentence (for display only). */
+export interface Note {
+  kind: NoteKind;
+  text: string;
 }

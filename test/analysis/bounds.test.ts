@@ -193,7 +193,8 @@ describe("units (row C13: Bao 2023 §2.4; RW11): cost-½ regret α vs 0-1 regret
 
   it("the curvature result compares the routes in cost-½ units (logistic: ψ-transform bound = direct bound)", () => {
     const res = analyseCurvature(fromBayes(logisticMargin));
-    const note = res.notes.find((n) => n.startsWith("At surrogate regret 0.01"));
+    const note = res.notes.find((n) => n.kind === "route-comparison")?.text;
+    expect(note?.startsWith("At surrogate regret 0.01")).toBe(true);
     expect(note).toBeDefined();
     // Direct 0.07059257027 (N24) and ψ⁻¹(0.01)/2 = 0.1411851405/2 (P2) agree to the printed digits.
     expect(note).toContain("direct ≤ 0.0705926");

@@ -79,7 +79,7 @@ describe("λ = inf w (rows N1–N6, L5, L10b, N37)", () => {
     // Ag14 Table 1 values (4 and 1), recovered numerically.
     const log = lambdaOf(logNats, true);
     expect(nearlyEqual(log.lambda!, 4, LAMBDA_NUMERIC_REL_TOL)).toBe(true);
-    expect(log.notes.some((n) => n.includes("second differences"))).toBe(true);
+    expect(log.notes.some((n) => n.kind === "numeric-weight" && n.text.includes("second differences"))).toBe(true);
     const sph = lambdaOf(spherical, true);
     expect(nearlyEqual(sph.lambda!, 1, LAMBDA_NUMERIC_REL_TOL)).toBe(true);
     expect(sph.lambdaAt?.approached).toBe(true);
@@ -91,12 +91,12 @@ describe("λ = inf w (rows N1–N6, L5, L10b, N37)", () => {
     expect(res.lambdaAt?.approached).toBe(true);
     expect([0, 1]).toContain(res.lambdaAt?.q);
     expect(res.summary.startsWith("λ = 0")).toBe(true);
-    expect(res.notes.some((n) => n.startsWith("λ = 0"))).toBe(true);
+    expect(res.notes.some((n) => n.kind === "lambda-zero" && n.text.startsWith("λ = 0"))).toBe(true);
   });
 
   it("the strong-properness statement uses R ≥ (λ/2)(η−q)² (Agarwal 2014, Def. 7)", () => {
     const res = lambdaOf(logNats);
-    expect(res.notes.some((n) => n.includes("R(η,q) ≥ 2·(η−q)²") && n.includes("Agarwal 2014"))).toBe(true);
+    expect(res.notes.some((n) => n.kind === "strong-properness" && n.text.includes("R(η,q) ≥ 2·(η−q)²") && n.text.includes("Agarwal 2014"))).toBe(true);
   });
 });
 
@@ -238,7 +238,7 @@ describe("exponents by both routes (row C15 and the exponents column of table L;
     expect(res.exponents.explanation).toContain("δ** = 0 below ε = 0.5");
     expect(res.summary).toBe("λ = 0 · δ** = 0 below ε = 0.5 · exponents — / 1");
     // Never a NaN in anything shown to the user.
-    for (const text of [res.summary, ...res.notes, ...res.findings.map((f) => f.message)]) expect(text).not.toMatch(/NaN/);
+    for (const text of [res.summary, ...res.notes.map((n) => n.text), ...res.findings.map((f) => f.message)]) expect(text).not.toMatch(/NaN/);
   });
 });
 
@@ -324,7 +324,7 @@ describe("sampleCurves", () => {
     }
     // l1 = −ln q is infinite at q = 0: replaced by null, with a note.
     expect(curves.partials[0]!.y[0]).toBeNull();
-    expect(curves.notes.some((n) => n.includes("l1"))).toBe(true);
+    expect(curves.notes.some((n) => n.kind === "loss-samples" && n.text.includes("l1"))).toBe(true);
     expect(curves.modulus.map((s) => s.id)).toEqual(["delta", "delta-envelope"]);
     expect(curves.bounds.map((s) => s.id)).toEqual(["bound-modulus", "bound-direct", "bound-psi"]);
     expect(curves.link).not.toBeNull();
@@ -341,6 +341,6 @@ describe("sampleCurves", () => {
     const res = analyseCurvature(fns);
     const curves = sampleCurves(fromBayes(hingeBayes), res);
     expect(curves.bayes.y.every((y) => y !== null)).toBe(true);
-    expect(curves.notes.some((n) => n.includes("point mass"))).toBe(true);
+    expect(curves.notes.some((n) => n.kind === "point-mass" && n.text.includes("point mass"))).toBe(true);
   });
 });

@@ -4,7 +4,7 @@
  * Pure: takes a `LossFamily`, returns figures and clause-attributed findings; never throws.
  */
 import { analyseCurvature, type CurvatureResult } from "./curvature.js";
-import type { Finding, LossFamily, LossFunctions } from "../loss-model.js";
+import type { Finding, LossFamily, LossFunctions, Note } from "../loss-model.js";
 import { fmt, verdictText as verdictWords } from "../display.js";
 import { analyseProperness, evaluateClaims, type PropernessResult } from "./properness.js";
 
@@ -37,7 +37,7 @@ export interface LossAnalysis {
   /** Where the modulus bound is vacuous: δ** = 0 on (0, ε0]. */
   vacuousBelow?: number | null;
   /** Statements for hovers and reports (strong properness, route comparisons, numerical notes). */
-  notes?: string[];
+  notes?: Note[];
   /** The derived model at the defaults and the full curvature result, for curves (not serialised). */
   fns?: LossFunctions | null;
   curvature?: CurvatureResult | null;

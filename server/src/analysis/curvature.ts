@@ -13,7 +13,7 @@
  *   Thm 25, with min in place of the printed max) (the direct route).
  * - Bartlett, Jordan & McAuliffe 2006, "Convexity, Classification, and Risk Bounds", JASA 101 (ψ-transform).
  */
-import type { Finding, LossFunctions, RealFn } from "../loss-model.js";
+import type { Finding, LossFunctions, Note, RealFn } from "../loss-model.js";
 import { fmt, formatExponent, formatPowerLaw, MESSAGE_STYLE } from "../display.js";
 import { boundedUnitFn } from "./numeric/limits.js";
 import { buildModulusModel, sampleUnitGrid, type ModulusModel, type SimonenkoRange, type UnitGrid } from "./modulus.js";
@@ -59,7 +59,7 @@ export interface CurvatureResult {
   /** Bao 2023 Thm 10 constants at ε* = ½ (null when vacuous). */
   simonenko: SimonenkoRange | null;
   /** Statements for hovers and reports: strong properness, bound comparisons, numerical notes. */
-  notes: string[];
+  notes: Note[];
 }
 
 export interface CurvatureOptions {
@@ -155,7 +155,7 @@ function budgetCheck(options: CurvatureOptions | undefined, findings: Finding[])
   const budget = options?.deadlineMs ?? 2000;
   return (stage: string): boolean => {
     if (Date.now() - start <= budget) return false;
-    findings.push({ code: "analysis-unknown", clause: "loss", message: `The curvature analysis ran out of its ${fmt(budget)} ms budget before ${stage}.` });
+    findings.push({ code: "analysis-unknown", clause: "loss", reason: "time-budget", message: `The curvature analysis ran out of its ${fmt(budget)} ms budget before ${stage}.` });
     return true;
   };
 }
@@ -164,15 +164,15 @@ function budgetCheck(options: CurvatureOptions | undefined, findings: Finding[])
 function checkedThreshold(fns: LossFunctions, findings: Finding[]): number {
   const threshold = fns.threshold;
   if (threshold > 0 && threshold < 1) return threshold;
-  findings.push({ code: "analysis-unknown", clause: "threshold", message: `The threshold ${fmt(threshold)} is outside (0, 1); the direct bound uses c = ½.` });
+  findings.push({ code: "analysis-unknown", clause: "threshold", reason: "threshold-outside", message: `The threshold ${fmt(threshold)} is outside (0, 1); the direct bound uses c = ½.` });
   return 0.5;
 }
 
 /** The weight: the derived model's closed form (guarded), else second differences of H (with a note). */
-function weightOf(fns: LossFunctions, f: RealFn, notes: string[]): { weight: RealFn; weightIsNumeric: boolean } {
+function weightOf(fns: LossFunctions, f: RealFn, notes: Note[]): { weight: RealFn; weightIsNumeric: boolean } {
   const weightIsNumeric = fns.weight === null;
   const weight = fns.weight ? safeFn(fns.weight) : numericWeight(f);
-  if (weightIsNumeric) notes.push("w computed by second differences of H (no closed-form weight available).");
+  if (weightIsNumeric) notes.push({ kind: "numeric-weight", text: "w computed by second differences of H (no closed-form weight available)." });
   return { weight, weightIsNumeric };
 }
 
@@ -193,7 +193,7 @@ interface LambdaStep {
 }
 
 /** λ from the weight, cross-checked near the endpoints for a supplied weight; findings for non-finite or negative w. */
-function lambdaStep(weight: RealFn, weightIsNumeric: boolean, f: RealFn, features: WeightFeatures, findings: Finding[], notes: string[]): LambdaStep {
+function lambdaStep(weight: RealFn, weightIsNumeric: boolean, f: RealFn, features: WeightFeatures, findings: Finding[], notes: Note[]): LambdaStep {
   let lam: LambdaEstimate | null = null;
   try {
     lam = estimateLambda(weight, weightIsNumeric, features);
@@ -204,9 +204,10 @@ function lambdaStep(weight: RealFn, weightIsNumeric: boolean, f: RealFn, feature
     try {
       const own = crossCheckedLambda(lam, f, features);
       if (own) {
-        notes.push(
-          `The weight function gives w = ${fmt(lam.lambda)} near q = ${fmt(lam.extremeAt ?? NaN)}, but second differences of H give λ = ${fmt(own.lambda!)}; the weight looks inaccurate that close to the endpoint, so λ is taken from second differences of H.`,
-        );
+        notes.push({
+          kind: "lambda-cross-check",
+          text: `The weight function gives w = ${fmt(lam.lambda)} near q = ${fmt(lam.extremeAt ?? NaN)}, but second differences of H give λ = ${fmt(own.lambda!)}; the weight looks inaccurate that close to the endpoint, so λ is taken from second differences of H.`,
+        });
         lam = own;
       }
     } catch (err) {
@@ -216,12 +217,13 @@ function lambdaStep(weight: RealFn, weightIsNumeric: boolean, f: RealFn, feature
   let lambda: number | null = lam?.lambda ?? null;
   let lambdaAt = lam?.at ?? null;
   if (lam && lam.nonFiniteAt !== null) {
-    findings.push({ code: "analysis-unknown", clause: "weight", message: `The weight function is not finite at q = ${fmt(lam.nonFiniteAt)}; λ uses the finite samples only.`, data: { q: lam.nonFiniteAt } });
+    findings.push({ code: "analysis-unknown", clause: "weight", reason: "non-finite", message: `The weight function is not finite at q = ${fmt(lam.nonFiniteAt)}; λ uses the finite samples only.`, data: { q: lam.nonFiniteAt } });
   }
   if (lam && lam.negativeAt !== null && lambda !== null) {
     findings.push({
       code: "analysis-unknown",
       clause: "weight",
+      reason: "negative-weight",
       message: `w is negative (${fmt(lambda)}) near q = ${fmt(lam.negativeAt)}: H is not concave there, so λ and the bounds assume a properness the loss lacks.`,
       data: { q: lam.negativeAt, w: lambda },
     });
@@ -271,7 +273,7 @@ function boundModels(
     try {
       psi = buildPsiTransform(safeFn(fns.margin), boundedUnitFn(fns.bayes));
       if (!psi.calibrated) {
-        findings.push({ code: "analysis-unknown", clause: "margin", message: "ψ̃(θ) = 0 for some θ > 0: the margin loss does not look classification-calibrated, so the ψ-transform bound is vacuous there." });
+        findings.push({ code: "analysis-unknown", clause: "margin", reason: "not-calibrated", message: "ψ̃(θ) = 0 for some θ > 0: the margin loss does not look classification-calibrated, so the ψ-transform bound is vacuous there." });
       }
     } catch (err) {
       findings.push(internalError("ψ-transform", err));
@@ -297,6 +299,7 @@ function modelFindings(models: BoundModels, features: WeightFeatures): Finding[]
     out.push({
       code: "analysis-unknown",
       clause: "loss",
+      reason: "unstable-estimate",
       message: `The power of δ** near 0 is not stable (local log-log slopes ${near.slopes.slice(-3).map((s) => fmt(s, 4)).join(", ")}); the modulus exponent is an estimate.`,
       data: { slopes: near.slopes },
     });
@@ -306,6 +309,7 @@ function modelFindings(models: BoundModels, features: WeightFeatures): Finding[]
     out.push({
       code: "analysis-unknown",
       clause: "loss",
+      reason: "unstable-estimate",
       message: `The power of the direct bound near 0 is not stable (local slopes ${directLocal.slopes.slice(-3).map((s) => fmt(s, 4)).join(", ")}); its exponent is an estimate.`,
       data: { slopes: directLocal.slopes },
     });
@@ -340,6 +344,7 @@ function exponentsStep(
     findings.push({
       code: "analysis-unknown",
       clause: "loss",
+      reason: "unstable-estimate",
       message: `The modulus exponent ${fmt(viaModulus, 4)} exceeds the tight direct exponent ${fmt(directExp, 4)}, which is impossible in exact arithmetic: the numerics are unreliable for this loss.`,
     });
   }
@@ -374,18 +379,18 @@ function inverseTableOf(models: BoundModels, threshold: number): InverseTableRow
 const ROUTE_COMPARISON_REGRET = 0.01;
 
 /** Notes on strong properness (or λ = 0), on the ψ-transform at another threshold, and comparing the routes at one regret. */
-function boundNotes(lambda: number | null, lambdaAt: LambdaStep["lambdaAt"], models: BoundModels, threshold: number): string[] {
+function boundNotes(lambda: number | null, lambdaAt: LambdaStep["lambdaAt"], models: BoundModels, threshold: number): Note[] {
   const { modulus, direct, psi } = models;
-  const notes: string[] = [];
+  const notes: Note[] = [];
   if (lambda !== null) {
     if (lambda > 0) {
-      notes.push(`λ-strongly proper with λ = ${fmt(lambda)}: R(η,q) ≥ ${fmt(lambda / 2)}·(η−q)² for all η, q (Agarwal 2014, Def. 7 / Thm 10), so |η−q| ≤ √(2R/λ).`);
+      notes.push({ kind: "strong-properness", text: `λ-strongly proper with λ = ${fmt(lambda)}: R(η,q) ≥ ${fmt(lambda / 2)}·(η−q)² for all η, q (Agarwal 2014, Def. 7 / Thm 10), so |η−q| ≤ √(2R/λ).` });
     } else {
-      notes.push(`λ = 0 (${lambdaAt?.approached ? "approached at q = " : "attained at q = "}${fmt(lambdaAt?.q ?? NaN)}): no strong-properness bound R ≥ (λ/2)(η−q)² holds with λ > 0.`);
+      notes.push({ kind: "lambda-zero", text: `λ = 0 (${lambdaAt?.approached ? "approached at q = " : "attained at q = "}${fmt(lambdaAt?.q ?? NaN)}): no strong-properness bound R ≥ (λ/2)(η−q)² holds with λ > 0.` });
     }
   }
   if (psi && psi.calibrated && Math.abs(threshold - 0.5) >= 1e-12) {
-    notes.push("The ψ-transform bounds the decision at threshold ½ only; this loss's threshold differs, so the table omits it.");
+    notes.push({ kind: "psi-threshold", text: "The ψ-transform bounds the decision at threshold ½ only; this loss's threshold differs, so the table omits it." });
   }
   const compareAt = ROUTE_COMPARISON_REGRET;
   const parts: string[] = [];
@@ -393,7 +398,7 @@ function boundNotes(lambda: number | null, lambdaAt: LambdaStep["lambdaAt"], mod
   if (direct) parts.push(`direct ≤ ${fmt(direct.inverse(compareAt))}`);
   if (psi && Math.abs(threshold - 0.5) < 1e-12) parts.push(`ψ-transform ≤ ${fmt(psi.inverse(compareAt) / 2)}`);
   if (parts.length > 0) {
-    notes.push(`At surrogate regret ${fmt(compareAt)} the cost-${fmt(threshold)} regret is bounded by: ${parts.join(", ")} (the direct bound is tight, RW09 Thm 3).`);
+    notes.push({ kind: "route-comparison", text: `At surrogate regret ${fmt(compareAt)} the cost-${fmt(threshold)} regret is bounded by: ${parts.join(", ")} (the direct bound is tight, RW09 Thm 3).` });
   }
   return notes;
 }
@@ -439,12 +444,13 @@ export function analyseCurvature(fns: LossFunctions, options?: CurvatureOptions)
       findings.push({
         code: "analysis-unknown",
         clause: "bayes",
+        reason: "non-finite",
         message: `The Bayes risk is not finite at q = ${fmt(grid.nonFiniteAt)}, so its curvature cannot be analysed.`,
         data: { q: grid.nonFiniteAt },
       });
       return emptyResult(threshold, findings, "the Bayes risk is not finite");
     }
-    const notes: string[] = [];
+    const notes: Note[] = [];
     const { weight, weightIsNumeric } = weightOf(fns, f, notes);
     const features = weightFeaturesOf(grid, findings);
     const lam = lambdaStep(weight, weightIsNumeric, f, features, findings, notes);

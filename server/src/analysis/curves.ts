@@ -3,7 +3,7 @@
  * decision regret as a function of surrogate regret by each route, and the link. Plain arrays only;
  * NaN and ±Infinity become null, with a note saying where.
  */
-import type { LossFunctions, RealFn } from "../loss-model.js";
+import type { LossFunctions, Note, NoteKind, RealFn } from "../loss-model.js";
 import { fmt } from "../display.js";
 import { boundedUnitFn } from "./numeric/limits.js";
 import { buildModulusModel, sampleUnitGrid } from "./modulus.js";
@@ -26,7 +26,26 @@ export interface CurveSet {
   /** Decision regret bound (cost-c units) against surrogate regret, one series per route. */
   bounds: Series[];
   link: Series | null;
-  notes: string[];
+  notes: Note[];
+}
+
+/**
+ * The kinds of notes about the weight, modulus and bound curves. These curves describe the regret of a
+ * proper loss; where they are not drawn (an improper loss), neither are these notes.
+ */
+export const CURVATURE_CURVE_NOTE_KINDS: ReadonlySet<NoteKind> = new Set<NoteKind>([
+  "weight-samples",
+  "point-mass",
+  "modulus-samples",
+  "modulus-unavailable",
+  "modulus-vacuous",
+  "bound-samples",
+  "bound-axes",
+]);
+
+/** True for a note about the weight, modulus or bound curves (see CURVATURE_CURVE_NOTE_KINDS). */
+export function isCurvatureCurveNote(note: Note): boolean {
+  return CURVATURE_CURVE_NOTE_KINDS.has(note.kind);
 }
 
 /** Default number of samples per curve. */
@@ -40,8 +59,8 @@ function grid(a: number, b: number, points: number): number[] {
   return out;
 }
 
-/** Samples g on xs; non-finite values become null and are counted in a note. */
-export function series(id: string, label: string, xs: number[], g: RealFn, notes: string[]): Series {
+/** Samples g on xs; non-finite values become null and are counted in a note of the given kind. */
+export function series(id: string, label: string, xs: number[], g: RealFn, notes: Note[], kind: NoteKind = "loss-samples"): Series {
   let bad = 0;
   let firstBad = NaN;
   const y = xs.map((x) => {
@@ -56,7 +75,7 @@ export function series(id: string, label: string, xs: number[], g: RealFn, notes
     bad++;
     return null;
   });
-  if (bad > 0) notes.push(`${label}: ${bad} sample${bad === 1 ? "" : "s"} not finite (shown as gaps), first at ${fmt(firstBad)}.`);
+  if (bad > 0) notes.push({ kind, text: `${label}: ${bad} sample${bad === 1 ? "" : "s"} not finite (shown as gaps), first at ${fmt(firstBad)}.` });
   return { id, label, x: xs, y };
 }
 
@@ -101,7 +120,7 @@ function rebuildModels(fns: LossFunctions, threshold: number, kinkAtC: boolean):
  * produced `curvature` when it was made on the same LossFunctions object. Never throws.
  */
 export function sampleCurves(fns: LossFunctions, curvature: CurvatureResult, options?: { points?: number }): CurveSet {
-  const notes: string[] = [];
+  const notes: Note[] = [];
   const points = Math.max(3, Math.min(MAX_POINTS, Math.round(options?.points ?? DEFAULT_POINTS)));
   const qs = grid(0, 1, points);
   const empty: Series = { id: "bayes", label: "H(q)", x: [], y: [] };
@@ -116,8 +135,8 @@ export function sampleCurves(fns: LossFunctions, curvature: CurvatureResult, opt
     const masses = curvature.weightFeatures.pointMasses;
     const near = 2 / (points - 1);
     const weightFn: RealFn = (q) => (masses.some((p) => Math.abs(q - p.q) < near) ? NaN : models.weight(q));
-    const weight = series("weight", models.weightIsNumeric ? "w(q) (from second differences of H)" : "w(q)", qs, weightFn, notes);
-    for (const p of masses) notes.push(`w has a point mass ${fmt(p.mass)} at q = ${fmt(p.q)} (a kink of H), not drawn as a function.`);
+    const weight = series("weight", models.weightIsNumeric ? "w(q) (from second differences of H)" : "w(q)", qs, weightFn, notes, "weight-samples");
+    for (const p of masses) notes.push({ kind: "point-mass", text: `w has a point mass ${fmt(p.mass)} at q = ${fmt(p.q)} (a kink of H), not drawn as a function.` });
 
     const modulus: Series[] = [];
     const bounds: Series[] = [];
@@ -126,12 +145,12 @@ export function sampleCurves(fns: LossFunctions, curvature: CurvatureResult, opt
     if (models.modulus) {
       const m = models.modulus;
       // exactValue memoises δ, so the envelope below reuses these evaluations.
-      modulus.push(series("delta", "δ(ε)", es, (e) => m.envelope.exactValue(e), notes));
-      const env = series("delta-envelope", "δ**(ε)", es, (e) => m.envelope.value(e), notes);
+      modulus.push(series("delta", "δ(ε)", es, (e) => m.envelope.exactValue(e), notes, "modulus-samples"));
+      const env = series("delta-envelope", "δ**(ε)", es, (e) => m.envelope.value(e), notes, "modulus-samples");
       modulus.push(env);
       envelopeSamples = env.y;
     } else {
-      notes.push("δ and δ** not available (see the curvature findings).");
+      notes.push({ kind: "modulus-unavailable", text: "δ and δ** not available (see the curvature findings)." });
     }
 
     // Surrogate regrets up to what the direct route needs for a cost-c regret of ¼ (or the modulus route's when that is missing).
@@ -145,28 +164,28 @@ export function sampleCurves(fns: LossFunctions, curvature: CurvatureResult, opt
       // The curves invert exact envelope samples piecewise linearly (an exact inverse per point costs a
       // root search each; the inverse table and hovers use the exact inverses).
       const inv = inverseFromSamples(es, envelopeSamples, m.vacuousBelow ?? 0);
-      bounds.push(series("bound-modulus", "modulus route (δ**)⁻¹(R/2) (Bao 2023, Cor. 7)", rs, (r) => inv(r / 2), notes));
-      if (m.vacuousBelow !== null) notes.push(`The modulus-route bound never goes below ε = ${fmt(m.vacuousBelow)} (δ** = 0 there: vacuous).`);
+      bounds.push(series("bound-modulus", "modulus route (δ**)⁻¹(R/2) (Bao 2023, Cor. 7)", rs, (r) => inv(r / 2), notes, "bound-samples"));
+      if (m.vacuousBelow !== null) notes.push({ kind: "modulus-vacuous", text: `The modulus-route bound never goes below ε = ${fmt(m.vacuousBelow)} (δ** = 0 there: vacuous).` });
     }
     if (models.direct) {
       const d = models.direct;
       const as = grid(0, d.alphaMax, points);
       const inv = inverseFromSamples(as, as.map((a) => finiteOrNull(d.envelope.value(a))), 0);
-      bounds.push(series("bound-direct", `direct (ψ_RW**)⁻¹(R) at c = ${fmt(c)} (RW09 Thm 3)`, rs, inv, notes));
+      bounds.push(series("bound-direct", `direct (ψ_RW**)⁻¹(R) at c = ${fmt(c)} (RW09 Thm 3)`, rs, inv, notes, "bound-samples"));
     }
     if (models.psi && Math.abs(c - 0.5) < 1e-12) {
       const p = models.psi;
       const ts = grid(0, 1, points);
       const inv = inverseFromSamples(ts, ts.map((t) => finiteOrNull(p.psi(t))), 0);
       // ψ⁻¹ is in 0-1 regret units (θ = 2α); halve it to share the cost-½ axis of the other routes.
-      bounds.push(series("bound-psi", "ψ-transform ψ⁻¹(R)/2 (BJM 2006)", rs, (r) => inv(r) / 2, notes));
+      bounds.push(series("bound-psi", "ψ-transform ψ⁻¹(R)/2 (BJM 2006)", rs, (r) => inv(r) / 2, notes, "bound-samples"));
     }
-    notes.push(`Bound curves: x = surrogate regret (loss units), y = cost-${fmt(c)} regret bound (at c = ½, half the usual 0-1 regret).`);
+    notes.push({ kind: "bound-axes", text: `Bound curves: x = surrogate regret (loss units), y = cost-${fmt(c)} regret bound (at c = ½, half the usual 0-1 regret).` });
 
     const link = fns.link ? series("link", "ψ(q)", qs, fns.link, notes) : null;
     return { partials, bayes, weight, modulus, bounds, link, notes };
   } catch (err) {
-    notes.push(`Curves not available: internal error (${err instanceof Error ? err.message : String(err)}).`);
+    notes.push({ kind: "curves-failed", text: `Curves not available: internal error (${err instanceof Error ? err.message : String(err)}).` });
     return { partials: [], bayes: empty, weight: null, modulus: [], bounds: [], link: null, notes };
   }
 }

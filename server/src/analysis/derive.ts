@@ -4,7 +4,7 @@
  * functions and reports problems met while building them (divergent integrals, links that cannot be
  * inverted, declared inverses that disagree with the link).
  */
-import type { Finding, LossFunctions, LossSpec, RealFn } from "../loss-model.js";
+import type { Finding, LossFunctions, LossSpec, Note, RealFn } from "../loss-model.js";
 import { fmt } from "../display.js";
 import { globalMin } from "./numeric/minimise.js";
 import { probabilityGrid } from "./numeric/sampling.js";
@@ -148,7 +148,7 @@ function numericInverse(link: RealFn): RealFn {
 
 /** Link parts for losses on probabilities: declared link (with derivative and inverse) or the canonical one (ψ' = w). */
 /** `canonicalFromBayes` is H' of the loss (declared, or l1 − l0 for partials), from which the canonical link follows exactly. */
-function probabilityLink(spec: LossSpec, weight: RealFn | null, canonicalFromBayes: RealFn | null, findings: Finding[], notes: string[]): LinkParts {
+function probabilityLink(spec: LossSpec, weight: RealFn | null, canonicalFromBayes: RealFn | null, findings: Finding[], notes: Note[]): LinkParts {
   if (spec.link) {
     const link = guard(spec.link)!;
     const inverse = guard(spec.inverse);
@@ -163,13 +163,13 @@ function probabilityLink(spec: LossSpec, weight: RealFn | null, canonicalFromBay
       const dH = canonicalFromBayes;
       const h0 = dH(0.5);
       const link = (q: number) => h0 - dH(q);
-      notes.push("Canonical link ψ(q) = H'(½) − H'(q) (ψ' = w, normalised so ψ(½) = 0).");
+      notes.push({ kind: "link", text: "Canonical link ψ(q) = H'(½) − H'(q) (ψ' = w, normalised so ψ(½) = 0)." });
       return { link, dlink: weight, inverseLink: numericInverse(link) };
     }
     if (!weight) return { link: null, dlink: null, inverseLink: null };
     const table = new UnitIntegral(weight);
     const link = (q: number) => table.fromHalf(q);
-    notes.push("Canonical link ψ(q) = ∫_{1/2}^q w(c) dc (ψ' = w, normalised so ψ(½) = 0), tabulated.");
+    notes.push({ kind: "link", text: "Canonical link ψ(q) = ∫_{1/2}^q w(c) dc (ψ' = w, normalised so ψ(½) = 0), tabulated." });
     return { link, dlink: weight, inverseLink: numericInverse(link) };
   }
   return { link: null, dlink: null, inverseLink: null };
@@ -187,7 +187,7 @@ function assemble(
     weightExact?: boolean;
     link?: LinkParts;
     margin?: RealFn | null;
-    notes: string[];
+    notes: Note[];
   },
 ): LossFunctions {
   const risk = riskOf(parts.l1, parts.l0);
@@ -212,7 +212,7 @@ function assemble(
 
 function derivePartials(spec: LossSpec): DeriveResult {
   const findings: Finding[] = [];
-  const notes: string[] = [];
+  const notes: Note[] = [];
   if (!spec.l1 || !spec.l0) {
     return { fns: null, findings: [{ code: "analysis-unknown", clause: "loss", message: "Both partial losses l1 and l0 are needed to analyse this loss." }] };
   }
@@ -220,9 +220,9 @@ function derivePartials(spec: LossSpec): DeriveResult {
   const l0 = guard(spec.l0)!;
   const dl1 = guard(spec.dl1) ?? ((q: number) => diffInUnit(l1, q));
   const dl0 = guard(spec.dl0) ?? ((q: number) => diffInUnit(l0, q));
-  if (!spec.dl1 || !spec.dl0) notes.push("Derivatives of the partial losses are central differences (no closed form was given).");
+  if (!spec.dl1 || !spec.dl0) notes.push({ kind: "numeric-derivative", text: "Derivatives of the partial losses are central differences (no closed form was given)." });
   const weight = stationarityWeight(dl1, dl0);
-  notes.push("H(η) = inf_q L(η, q) by a grid scan with golden refinement; equals L(η, η) when no lower value is found.");
+  notes.push({ kind: "derivation", text: "H(η) = inf_q L(η, q) by a grid scan with golden refinement; equals L(η, η) when no lower value is found." });
   // For a proper loss H' = l1 − l0 (Savage form: l1 = H + (1−q)H', l0 = H − qH'), so the canonical link
   // ψ = H'(½) − H' needs no quadrature; for an improper loss the canonical link has no meaning anyway.
   const link = probabilityLink(spec, weight, (q) => l1(q) - l0(q), findings, notes);
@@ -231,14 +231,14 @@ function derivePartials(spec: LossSpec): DeriveResult {
 
 function deriveBayes(spec: LossSpec): DeriveResult {
   const findings: Finding[] = [];
-  const notes: string[] = [];
+  const notes: Note[] = [];
   if (!spec.bayes) {
     return { fns: null, findings: [{ code: "analysis-unknown", clause: "bayes", message: "The Bayes risk clause is missing." }] };
   }
   const H = guard(spec.bayes)!;
   const dH = guard(spec.dbayes) ?? ((q: number) => diffInUnit(H, q));
   const d2H = guard(spec.d2bayes) ?? (spec.dbayes ? (q: number) => diffInUnit(dH, q) : (q: number) => diff2InUnit(H, q));
-  if (!spec.dbayes) notes.push("H' is a central difference (no closed form was given).");
+  if (!spec.dbayes) notes.push({ kind: "numeric-derivative", text: "H' is a central difference (no closed form was given)." });
   // Savage's construction: l1 = H + (1−q)H', l0 = H − qH' (Bao 2023, Thm 1; Reid & Williamson 2010, Thm 4).
   const l1 = (q: number) => (q === 1 ? H(1) : H(q) + (1 - q) * dH(q));
   const l0 = (q: number) => (q === 0 ? H(0) : H(q) - q * dH(q));
@@ -246,7 +246,7 @@ function deriveBayes(spec: LossSpec): DeriveResult {
   const dl0 = (q: number) => -q * d2H(q);
   const weight = (q: number) => -d2H(q);
   const link = probabilityLink(spec, weight, dH, findings, notes);
-  notes.push("Partial losses from the Savage form l1 = H + (1−q)H', l0 = H − qH'; H(η) = inf_q L(η, q), which is the declared H when H is concave.");
+  notes.push({ kind: "derivation", text: "Partial losses from the Savage form l1 = H + (1−q)H', l0 = H − qH'; H(η) = inf_q L(η, q), which is the declared H when H is concave." });
   return { fns: assemble(spec, { l1, l0, dl1, dl0, weight, weightExact: !!spec.d2bayes, link, notes }), findings };
 }
 
@@ -257,7 +257,7 @@ function weightSamples(): number[] {
 
 function deriveWeight(spec: LossSpec): DeriveResult {
   const findings: Finding[] = [];
-  const notes: string[] = [];
+  const notes: Note[] = [];
   if (!spec.weight) {
     return { fns: null, findings: [{ code: "analysis-unknown", clause: "weight", message: "The weight clause is missing." }] };
   }
@@ -299,7 +299,7 @@ function deriveWeight(spec: LossSpec): DeriveResult {
   const risk = riskOf(l1, l0);
   // With w ≥ 0 the loss is proper by construction (RW10 Thm 6), so H(η) = L(η, η); otherwise the infimum is searched.
   const bayes = negative ? numericBayes(risk) : (eta: number) => risk(eta, eta);
-  notes.push("Partial losses by the integral representation l1(q) = ∫_q^1 (1−c)w(c)dc, l0(q) = ∫_0^q c·w(c)dc, tabulated with local Gauss–Kronrod completion.");
+  notes.push({ kind: "derivation", text: "Partial losses by the integral representation l1(q) = ∫_q^1 (1−c)w(c)dc, l0(q) = ∫_0^q c·w(c)dc, tabulated with local Gauss–Kronrod completion." });
   // H' = l1 − l0 here too (the partials are tabulated), which gives the canonical link without another table.
   const link = probabilityLink(spec, w, (q) => l1(q) - l0(q), findings, notes);
   return { fns: assemble(spec, { l1, l0, dl1, dl0, bayes, weight: w, weightExact: true, link, notes }), findings };
@@ -307,7 +307,7 @@ function deriveWeight(spec: LossSpec): DeriveResult {
 
 function deriveMargin(spec: LossSpec): DeriveResult {
   const findings: Finding[] = [];
-  const notes: string[] = [];
+  const notes: Note[] = [];
   if (!spec.margin) {
     return { fns: null, findings: [{ code: "analysis-unknown", clause: "margin", message: "The margin clause is missing." }] };
   }
@@ -317,7 +317,7 @@ function deriveMargin(spec: LossSpec): DeriveResult {
   const inv = impliedInverseLink(dphi);
   const scan = scanMarginLink(inv);
   const Hmargin = memoise(marginBayes(phi));
-  notes.push(`H(η) = inf over |v| ≤ ${MARGIN_SCORE_BOUND} of ηφ(v) + (1−η)φ(−v), by a grid scan with golden refinement.`);
+  notes.push({ kind: "derivation", text: `H(η) = inf over |v| ≤ ${MARGIN_SCORE_BOUND} of ηφ(v) + (1−η)φ(−v), by a grid scan with golden refinement.` });
   if (!scan.invertible) {
     findings.push({
       code: "margin-no-link",
@@ -329,7 +329,7 @@ function deriveMargin(spec: LossSpec): DeriveResult {
     const vstar = memoise((q: number) => globalMin((v) => marginRisk(phi, q, v), -MARGIN_SCORE_BOUND, MARGIN_SCORE_BOUND, MARGIN_MIN_GRID, 3).x);
     const l1 = (q: number) => phi(vstar(q));
     const l0 = (q: number) => phi(-vstar(q));
-    notes.push("No invertible link: l1(q) = φ(v*(q)) and l0(q) = φ(−v*(q)) with v*(q) a minimiser of the risk at η = q (not unique).");
+    notes.push({ kind: "derivation", text: "No invertible link: l1(q) = φ(v*(q)) and l0(q) = φ(−v*(q)) with v*(q) a minimiser of the risk at η = q (not unique)." });
     const fns = assemble(spec, {
       l1,
       l0,
@@ -363,7 +363,7 @@ function deriveMargin(spec: LossSpec): DeriveResult {
     const b = risk(eta, eta);
     return Number.isFinite(b) ? Math.min(a, b) : a;
   };
-  notes.push(`Implied link from ψ⁻¹(v) = φ'(−v)/(φ'(−v)+φ'(v)) (Reid & Williamson 2010, Cor. 14) on v ∈ [${fmt(vlo)}, ${fmt(vhi)}], inverted by bisection.`);
+  notes.push({ kind: "link", text: `Implied link from ψ⁻¹(v) = φ'(−v)/(φ'(−v)+φ'(v)) (Reid & Williamson 2010, Cor. 14) on v ∈ [${fmt(vlo)}, ${fmt(vhi)}], inverted by bisection.` });
   const fns = assemble(spec, {
     l1,
     l0,
@@ -380,7 +380,7 @@ function deriveMargin(spec: LossSpec): DeriveResult {
 
 function deriveScorePartials(spec: LossSpec): DeriveResult {
   const findings: Finding[] = [];
-  const notes: string[] = [];
+  const notes: Note[] = [];
   if (!spec.l1 || !spec.l0) {
     return { fns: null, findings: [{ code: "analysis-unknown", clause: "loss", message: "Both partial losses l1(v) and l0(v) are needed to analyse this loss." }] };
   }
@@ -405,7 +405,7 @@ function deriveScorePartials(spec: LossSpec): DeriveResult {
   const dl1 = (q: number) => dlam1(link(q)) * dlink(q);
   const dl0 = (q: number) => dlam0(link(q)) * dlink(q);
   const mismatch = findings.some((f) => f.code === "inverse-mismatch");
-  notes.push("Partial losses on q are λ_y(ψ(q)); H(η) = inf_q L(η, q) by a grid scan with golden refinement.");
+  notes.push({ kind: "derivation", text: "Partial losses on q are λ_y(ψ(q)); H(η) = inf_q L(η, q) by a grid scan with golden refinement." });
   const fns = assemble(spec, {
     l1,
     l0,

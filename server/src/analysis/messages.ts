@@ -74,23 +74,24 @@ export const MARGIN_CALIBRATED_SUFFIX = " It is classification-calibrated (Bartl
 // ---- Undecided outcomes ----
 
 export function notDerivedFinding(firstReason: string): Finding {
-  return { code: "analysis-unknown", clause: "loss", message: `Cannot decide properness: the loss functions could not be derived (${firstReason}).` };
+  return { code: "analysis-unknown", clause: "loss", reason: "not-derivable", message: `Cannot decide properness: the loss functions could not be derived (${firstReason}).` };
 }
 
 export function searchTimedOutFinding(): Finding {
-  return { code: "analysis-unknown", clause: "loss", message: "Cannot decide properness: the time limit was reached before the search finished." };
+  return { code: "analysis-unknown", clause: "loss", reason: "time-budget", message: "Cannot decide properness: the time limit was reached before the search finished." };
 }
 
 export function nonFiniteUnknownFinding(nf: { q: number; which: "l1" | "l0" }): Finding {
   return {
     code: "analysis-unknown",
     clause: "loss",
+    reason: "non-finite",
     message: `Cannot decide properness: ${nf.which} is not finite at q = ${fmt(nf.q)}, and no counterexample was found elsewhere.`,
   };
 }
 
 export function strictnessTimedOutFinding(): Finding {
-  return { code: "analysis-unknown", clause: "loss", message: "Strict properness not decided: the time limit was reached before the Bayes risk was examined for affine pieces." };
+  return { code: "analysis-unknown", clause: "loss", reason: "time-budget", message: "Strict properness not decided: the time limit was reached before the Bayes risk was examined for affine pieces." };
 }
 
 // ---- Evidence on the clauses (Reid & Williamson 2010, Thm 1 and Thm 6; Bao 2023, §2 and Thm 1) ----
@@ -178,6 +179,7 @@ export function rangesTimedOutFinding(param: string): Finding {
   return {
     code: "analysis-unknown",
     clause: `param:${param}`,
+    reason: "time-budget",
     message: "The declared parameter ranges were only partly sampled: the time limit was reached.",
   };
 }

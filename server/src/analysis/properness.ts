@@ -65,7 +65,7 @@ export const RECOVERY_MOVED = 1e-6;
 /** For a loss found proper the Bayes risk is L(η, η); this replaces the per-point minimisation, which callers evaluating H densely would pay for. */
 function withBayesOnDiagonal(fns: LossFunctions): LossFunctions {
   const risk = fns.risk;
-  return { ...fns, bayes: (eta: number) => risk(eta, eta), notes: [...fns.notes, "H(η) = L(η, η), since the loss was found proper."] };
+  return { ...fns, bayes: (eta: number) => risk(eta, eta), notes: [...fns.notes, { kind: "bayes-on-diagonal", text: "H(η) = L(η, η), since the loss was found proper." }] };
 }
 
 /** The minimiser curve q*(η) of an improper loss and, when q* is monotone, the posterior-recovery map with its finding. */

@@ -8,9 +8,9 @@
  * and every non-finite sample becomes a null gap with a note.
  */
 import type { CurvatureResult } from "../analysis/curvature.js";
-import { sampleCurves, series, type CurveSet, type Series } from "../analysis/curves.js";
+import { isCurvatureCurveNote, sampleCurves, series, type CurveSet, type Series } from "../analysis/curves.js";
 import { boundedUnitFn } from "../analysis/numeric/limits.js";
-import type { LossFunctions } from "../loss-model.js";
+import type { LossFunctions, Note } from "../loss-model.js";
 import { fmt, verdictText } from "../display.js";
 import { minimiseRisk } from "../analysis/recovery.js";
 import type { CurvesParams, CurvesResult, LossCurves, LossFigures, SeriesData } from "../protocol.js";
@@ -78,7 +78,7 @@ function curvesForLoss(at: PinnedAnalysis, report: LossReport, etas: number[], p
   const fns = at.fns;
   const values = at.values;
   const overridden = at.overridden;
-  const notes: string[] = [...at.notes, ...fns.notes];
+  const notes: string[] = [...at.notes, ...fns.notes.map((n) => n.text)];
   const verdict: LossCurves["verdict"] = at.analysis?.verdict ?? "unknown";
   if (verdict === "unknown") {
     const why = at.analysis?.findings.find((f) => f.code === "analysis-unknown" || f.code === "internal-error");
@@ -90,8 +90,7 @@ function curvesForLoss(at: PinnedAnalysis, report: LossReport, etas: number[], p
   const set: CurveSet = curvature ? sampleCurves(fns, curvature, { points }) : sampleLossCurves(fns, points);
   // Notes about curves that are not drawn for an improper loss would only confuse.
   const improperLoss = verdict === "improper";
-  const hiddenForImproper = /^(w\(q\)|w has|δ|Bound curves|The modulus-route)/;
-  notes.push(...set.notes.filter((n) => !(improperLoss && hiddenForImproper.test(n))));
+  notes.push(...set.notes.filter((n) => !(improperLoss && isCurvatureCurveNote(n))).map((n) => n.text));
 
   const qs = set.partials[0]?.x ?? gridOf(points);
   const sampled = etas.map((eta) => conditionalRiskAt(fns!, eta, qs, notes));
@@ -168,7 +167,7 @@ function curvesForLoss(at: PinnedAnalysis, report: LossReport, etas: number[], p
 
 /** The curves of the loss itself (partials, H, link) without the curvature analysis, for improper losses. */
 function sampleLossCurves(fns: LossFunctions, points: number): CurveSet {
-  const notes: string[] = [];
+  const notes: Note[] = [];
   const qs = gridOf(points);
   return {
     partials: [series("l1", "l1(q)", qs, fns.l1, notes), series("l0", "l0(q)", qs, fns.l0, notes)],
