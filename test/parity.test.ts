@@ -15,7 +15,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { main, type CliIo } from "../server/src/cli/main.js";
 import { toDiagnostic } from "../server/src/lsp/convert.js";
 import type { CurvesResult } from "../server/src/protocol.js";
-import type { JsonFile } from "../server/src/service/check-report.js";
+import type { JsonFile } from "../server/src/products/check-report.js";
 import { createLanguageService } from "../server/src/service/language-service.js";
 import { toClientShape, DEFAULT_SETTINGS, type AnalysisSettings } from "../server/src/settings.js";
 import { LspTestClient } from "./support/lsp-client.js";

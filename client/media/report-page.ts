@@ -7,7 +7,7 @@
 import type { CurvesResult } from "../../server/src/protocol.js";
 import { buildChartSpecs, CHART_IDS, COLOUR_COUNT, DASH_COUNT, escapeXml, renderChartSvg, type ChartId } from "./draw.js";
 
-/** The JSON the report inlines (see server/src/service/report.ts). */
+/** The JSON the report inlines (see server/src/products/report.ts). */
 export interface ReportData {
   eta: number;
   files: { file: string; curves: CurvesResult }[];

@@ -14,7 +14,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { viewerHtml } from "../../client/src/viewer-html.js";
 import type { CurvesResult, HostToViewer, LossCurves } from "../../server/src/protocol.js";
 import { analyseDocument } from "../../server/src/pipeline/pipeline.js";
-import { renderReport } from "../../server/src/service/report.js";
+import { renderReport } from "../../server/src/products/report.js";
 
 const CHROMIUM = "/usr/bin/chromium";
 const HAS_CHROMIUM = existsSync(CHROMIUM);

@@ -7,7 +7,7 @@ import * as path from "node:path";
 import { describe, expect, it } from "vitest";
 import { nearlyEqual } from "../../server/src/analysis/numeric/tolerance.js";
 import { analyseDocument } from "../../server/src/pipeline/pipeline.js";
-import { CLIP_INTERIOR, computeCurves, DEFAULT_ETAS, suggestRange } from "../../server/src/service/curves.js";
+import { CLIP_INTERIOR, computeCurves, DEFAULT_ETAS, suggestRange } from "../../server/src/products/curves.js";
 import type { CurvesResult, LossCurves } from "../../server/src/protocol.js";
 
 /** Minimisers are found by a grid scan, golden section and a bisection polish: 1e-6 is far above their error. */

@@ -4,7 +4,7 @@
  */
 import { describe, expect, it } from "vitest";
 import { analyseDocument } from "../../server/src/pipeline/pipeline.js";
-import { REPORT_CAUTION, renderReport } from "../../server/src/service/report.js";
+import { REPORT_CAUTION, renderReport } from "../../server/src/products/report.js";
 import type { CurvesResult } from "../../server/src/protocol.js";
 
 const SOURCE = `

@@ -11,7 +11,7 @@ import { expect } from "vitest";
 import type { Issue } from "../../server/src/issue.js";
 import { analyseDocument } from "../../server/src/pipeline/pipeline.js";
 import type { DocumentAnalysis } from "../../server/src/pipeline/stages.js";
-import { LineIndex } from "../../server/src/service/text-position.js";
+import { LineIndex } from "../../server/src/products/text-position.js";
 
 /** One expected issue: its 0-based line, its character range on that line, its code and a message substring. */
 export interface Annotation {

@@ -6,7 +6,7 @@
  */
 import { parseArgs } from "node:util";
 import { loadDocuments, nodeIo, settingsFromArgs, SETTINGS_HELP, SETTINGS_OPTIONS, UsageError, type CliIo } from "./io.js";
-import { toJsonFile, toSarif, toTextLines } from "../service/check-report.js";
+import { toJsonFile, toSarif, toTextLines } from "../products/check-report.js";
 import { runReport } from "./report.js";
 import { runGen } from "./gen.js";
 

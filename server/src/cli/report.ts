@@ -1,13 +1,13 @@
 /**
  * `propriety report FILE|DIR… --out report.html [--png DIR] [--svg DIR] [--title TEXT]`: writes the
- * self-contained HTML report (service/report.ts) and, on request, exports every chart as PNG and SVG
+ * self-contained HTML report (products/report.ts) and, on request, exports every chart as PNG and SVG
  * through headless Chromium (playwright-core), since the charts are drawn by the page's own script.
  */
 import * as fs from "node:fs";
 import * as path from "node:path";
 import { randomBytes } from "node:crypto";
 import { parseArgs } from "node:util";
-import { renderReport } from "../service/report.js";
+import { renderReport } from "../products/report.js";
 import { loadDocuments, settingsFromArgs, SETTINGS_HELP, SETTINGS_OPTIONS, UsageError, type CliIo } from "./io.js";
 import { VERSION } from "../version.js";
 

@@ -4,7 +4,7 @@
  * endings); positions past a line's end clamp to it.
  */
 import { describe, expect, it } from "vitest";
-import { LineIndex } from "../../server/src/service/text-position.js";
+import { LineIndex } from "../../server/src/products/text-position.js";
 
 /** Reference conversion written independently: split on the three line endings and count. */
 function referencePositions(text: string): { line: number; character: number }[] {
