@@ -3,12 +3,21 @@
  * computed elsewhere (λ, the bound exponent, convexity in the score). A refuted claim is an
  * "expect-failed" error on its clause `expect:N`; an undecided one is "expect-undecided".
  */
-import type { Claim, Finding, LossFamily } from "../loss-model.js";
+import type { Claim, Finding, LossFamily, LossFunctions } from "../loss-model.js";
 import { fmt } from "../display.js";
 import { internalError } from "./derive.js";
 import { checkCompositeConvexity } from "./composite.js";
-import { claimFailedFinding, claimUndecidedFinding, counterexampleReason } from "./messages.js";
-import type { PropernessResult } from "./properness.js";
+import { claimFailedFinding, claimUndecidedFinding, counterexampleReason, type Counterexample } from "./messages.js";
+import type { PropernessVerdict } from "./verdict.js";
+
+/** What the claims read from the properness result at the defaults (a `PropernessResult` has all of it). */
+export interface ClaimEvidence {
+  verdict: PropernessVerdict;
+  counterexample: Counterexample | null;
+  flatInterval: [number, number] | null;
+  /** The derived model, for convexity in the score when it is not supplied. */
+  fns: LossFunctions | null;
+}
 
 /** Values computed elsewhere (curvature, bounds) that some claims need; null means "could not be computed". */
 export interface ClaimExtras {
@@ -40,7 +49,7 @@ function claimText(c: Claim): string {
  * A refuted claim is an "expect-failed" error on clause `expect:N`; an undecided one "expect-undecided".
  * Convexity, when not supplied, is computed here from the derived model (composite check).
  */
-export function evaluateClaims(family: LossFamily, properness: PropernessResult, extra: ClaimExtras = {}): Finding[] {
+export function evaluateClaims(family: LossFamily, properness: ClaimEvidence, extra: ClaimExtras = {}): Finding[] {
   const out: Finding[] = [];
   for (const claim of family.claims) {
     try {
