@@ -7,6 +7,7 @@ import { analyseCurvature, type CurvatureResult } from "./curvature.js";
 import type { Finding, LossFamily, LossFunctions, Note } from "../loss-model.js";
 import { fmt, verdictText as verdictWords } from "../display.js";
 import { analyseProperness, evaluateClaims, type PropernessResult } from "./properness.js";
+import type { Clock } from "./budget.js";
 
 export type Verdict = "strictly-proper" | "proper" | "improper" | "unknown";
 
@@ -44,8 +45,14 @@ export interface LossAnalysis {
 }
 
 export interface AnalyseOptions {
-  /** Time budget in milliseconds for properness and for curvature, each. */
+  /**
+   * Wall-clock budget in milliseconds for properness and for curvature, each. A last resort: every search
+   * is bounded in steps, so results do not depend on the machine's speed unless a stage runs out of this
+   * budget, and then it says so ("analysis-unknown" findings with reason "time-budget").
+   */
   deadlineMs?: number;
+  /** The clock the budgets are read from (default Date.now), passed to every stage; tests inject one. */
+  clock?: Clock;
   seed?: number;
   /** Grid resolution of the properness scans over q and η (the engine's default when absent). */
   gridResolution?: number;
@@ -56,7 +63,7 @@ export interface AnalyseOptions {
 /** Findings that only say "this loss is improper"; downgraded to warnings when the loss claims `expect improper`. */
 const IMPROPERNESS_EVIDENCE = new Set<string>(["improper", "l1-increasing", "l0-decreasing", "stationarity-mismatch"]);
 
-/** The time budget per stage; generous for the CLI, the language server passes its own. */
+/** The wall-clock budget per stage (a last resort; the searches are bounded in steps); generous for the CLI, the editor passes its own. */
 export const DEFAULT_STAGE_DEADLINE_MS = 2000;
 
 /** Analyses a loss at its parameter defaults, and across declared ranges where the checks support it. */
@@ -71,6 +78,7 @@ export function analyseFamily(family: LossFamily, options: AnalyseOptions = {}):
   }
   const prop: PropernessResult = analyseProperness(family, {
     deadlineMs,
+    ...(options.clock ? { clock: options.clock } : {}),
     ...(options.seed !== undefined ? { seed: options.seed } : {}),
     ...(options.gridResolution !== undefined ? { resolution: Math.max(11, Math.round(options.gridResolution)) } : {}),
   });
@@ -91,7 +99,7 @@ export function analyseFamily(family: LossFamily, options: AnalyseOptions = {}):
   // not a Bregman divergence of −H and the bounds would not apply.
   let curvature: CurvatureResult | null = null;
   if (prop.fns && (prop.verdict === "strictly-proper" || prop.verdict === "proper")) {
-    curvature = analyseCurvature(prop.fns, { deadlineMs });
+    curvature = analyseCurvature(prop.fns, { deadlineMs, ...(options.clock ? { clock: options.clock } : {}) });
     findings.push(...curvature.findings);
   }
 

@@ -21,6 +21,7 @@ import { buildDirectBound, buildPsiTransform, modulusRouteBound, type DirectBoun
 import { numericWeight, scanWeightFeatures, type WeightFeatures } from "./weight-features.js";
 import { crossCheckedLambda, estimateLambda, type LambdaEstimate } from "./lambda.js";
 import { EXPONENT_SAME_TOL, explainExponents } from "./exponents.js";
+import { deadlineAfter, type Clock } from "./budget.js";
 
 /** Re-exported so callers of the curvature analysis find its parts in one module. */
 export { detectWeightFeatures, numericWeight, type PointMass, type WeightFeatures } from "./weight-features.js";
@@ -63,8 +64,13 @@ export interface CurvatureResult {
 }
 
 export interface CurvatureOptions {
-  /** Time budget in milliseconds (default 2000); stages not reached become analysis-unknown findings. */
+  /**
+   * Wall-clock budget in milliseconds (default 2000), a last resort: every stage is bounded in steps, and
+   * stages not reached become analysis-unknown findings with reason "time-budget".
+   */
   deadlineMs?: number;
+  /** The clock the budget is read from (default Date.now); tests inject one. */
+  clock?: Clock;
   /**
    * Target absolute accuracy of δ (default 1e-8). It sets the midpoint tolerance of every exact δ
    * evaluation; the defaults already give ≈1e-13 on the standard losses, so only stricter targets change it.
@@ -151,10 +157,10 @@ function unitsFor(c: number): CurvatureResult["units"] {
 type BudgetCheck = (stage: string) => boolean;
 
 function budgetCheck(options: CurvatureOptions | undefined, findings: Finding[]): BudgetCheck {
-  const start = Date.now();
   const budget = options?.deadlineMs ?? 2000;
+  const deadline = deadlineAfter(budget, options?.clock ?? Date.now);
   return (stage: string): boolean => {
-    if (Date.now() - start <= budget) return false;
+    if (!deadline.expired()) return false;
     findings.push({ code: "analysis-unknown", clause: "loss", reason: "time-budget", message: `The curvature analysis ran out of its ${fmt(budget)} ms budget before ${stage}.` });
     return true;
   };

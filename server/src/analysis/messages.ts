@@ -94,6 +94,15 @@ export function strictnessTimedOutFinding(): Finding {
   return { code: "analysis-unknown", clause: "loss", reason: "time-budget", message: "Strict properness not decided: the time limit was reached before the Bayes risk was examined for affine pieces." };
 }
 
+export function minimiserTimedOutFinding(): Finding {
+  return {
+    code: "analysis-unknown",
+    clause: "loss",
+    reason: "time-budget",
+    message: "The minimiser q*(η) and the posterior-recovery map were not computed: the time limit was reached.",
+  };
+}
+
 // ---- Evidence on the clauses (Reid & Williamson 2010, Thm 1 and Thm 6; Bao 2023, §2 and Thm 1) ----
 
 export function monotonicityFinding(

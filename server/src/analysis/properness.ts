@@ -15,7 +15,8 @@ import { computeRecovery, minimiseRisk, RECOVERY_ETAS, type RecoveryMap } from "
 import { checkCompositeConvexity } from "./composite.js";
 import { analyseSpec, type InstanceResult, type PropernessVerdict } from "./verdict.js";
 import { analyseRanges, defaultsOf } from "./ranges.js";
-import { posteriorRecoveryFinding, type Counterexample } from "./messages.js";
+import { minimiserTimedOutFinding, posteriorRecoveryFinding, type Counterexample } from "./messages.js";
+import { deadlineAfter, type Clock } from "./budget.js";
 
 /** Re-exported so callers of `analyseProperness` get the types of its result from one module. */
 export type { RecoveryMap } from "./recovery.js";
@@ -43,8 +44,13 @@ export interface PropernessResult {
 
 /** Options of `analyseProperness`. */
 export interface PropernessOptions {
-  /** Time budget for the whole analysis, in milliseconds (default DEFAULT_DEADLINE_MS). */
+  /**
+   * Wall-clock budget for the whole analysis, in milliseconds (default DEFAULT_DEADLINE_MS): a last resort,
+   * since every search is bounded in steps; a stage it stops says "unknown" with reason "time-budget".
+   */
   deadlineMs?: number;
+  /** The clock the deadline is read from (default Date.now); tests inject one. */
+  clock?: Clock;
   /** Seed of the random sample points (default DEFAULT_SEED). */
   seed?: number;
   /** Grid resolution of the q and η scans (default GRID_RESOLUTION); lower is faster and coarser. */
@@ -90,8 +96,7 @@ function minimiserAndRecovery(fns: LossFunctions, core: InstanceResult & { table
  * "unknown"; a search that runs out of time says so ("analysis-unknown").
  */
 export function analyseProperness(family: LossFamily, options: PropernessOptions = {}): PropernessResult {
-  const start = Date.now();
-  const deadline = start + (options.deadlineMs ?? DEFAULT_DEADLINE_MS);
+  const deadline = deadlineAfter(options.deadlineMs ?? DEFAULT_DEADLINE_MS, options.clock ?? Date.now);
   const seed = options.seed ?? DEFAULT_SEED;
   const resolution = options.resolution ?? GRID_RESOLUTION;
   try {
@@ -114,7 +119,10 @@ export function analyseProperness(family: LossFamily, options: PropernessOptions
       result.findings.push(...conv.findings);
     }
     const table = core.table;
-    if (fns && core.verdict === "improper" && core.counterexample && table && Date.now() <= deadline) minimiserAndRecovery(fns, { ...core, table }, result);
+    if (fns && core.verdict === "improper" && core.counterexample && table) {
+      if (deadline.expired()) result.findings.push(minimiserTimedOutFinding());
+      else minimiserAndRecovery(fns, { ...core, table }, result);
+    }
     const ranges = analyseRanges(family, core.verdict, deadline, seed);
     if (ranges.report) result.paramReport = ranges.report;
     result.findings.push(...ranges.findings);

@@ -8,10 +8,19 @@ import type { Finding, LossFamily, ParamRange, RealFn } from "../loss-model.js";
 import { fmt } from "../display.js";
 import { probabilityGrid, seededRandom } from "./numeric/sampling.js";
 import { analyseSpec, type PropernessVerdict } from "./verdict.js";
+import type { Deadline } from "./budget.js";
 import { improperAtJointFinding, improperInRangeFinding, rangesTimedOutFinding, type Counterexample } from "./messages.js";
 
 /** Coarser grid used for each point of a parameter sweep. */
 export const SWEEP_RESOLUTION = 100;
+/** Uniform cells of the range of a loss's only parameter (each sample is one verdict at SWEEP_RESOLUTION). */
+export const SWEEP_CELLS_SINGLE = 8;
+/** Uniform cells per parameter when there are several (the joint samples cover the combinations). */
+export const SWEEP_CELLS_EACH = 5;
+/** Seeded random values per parameter, besides the grid (they break alignment with special values). */
+export const SWEEP_RANDOM_SAMPLES = 2;
+/** Parameters whose corners of the box are all sampled jointly (2^4 = 16 verdicts; further parameters only by random points). */
+export const JOINT_CORNER_PARAMS = 4;
 
 /** A parameter with a declared range. */
 type RangedParam = ParamRange & { lo: number; hi: number };
@@ -66,7 +75,7 @@ function quickWeightStatus(w: RealFn): Status | null {
   return "proper";
 }
 
-function statusAt(family: LossFamily, values: Record<string, number>, deadline: number, seed: number): SweepPoint {
+function statusAt(family: LossFamily, values: Record<string, number>, deadline: Deadline, seed: number): SweepPoint {
   try {
     const spec = family.instantiate(values);
     if (spec.form === "weight" && spec.weight) {
@@ -155,7 +164,7 @@ function paramSamples(p: RangedParam, rnd: () => number, uniform: number): numbe
   const xs = new Set<number>([p.lo, p.hi, p.default]);
   if (p.hi > p.lo) {
     for (let k = 1; k < uniform; k++) xs.add(p.lo + ((p.hi - p.lo) * k) / uniform);
-    for (let k = 0; k < 2; k++) xs.add(p.lo + (p.hi - p.lo) * rnd());
+    for (let k = 0; k < SWEEP_RANDOM_SAMPLES; k++) xs.add(p.lo + (p.hi - p.lo) * rnd());
   }
   return [...xs].filter((x) => x >= p.lo && x <= p.hi).sort((a, b) => a - b);
 }
@@ -169,7 +178,7 @@ export interface RangeOutcome {
 interface SweepContext {
   family: LossFamily;
   defaults: Record<string, number>;
-  deadline: number;
+  deadline: Deadline;
   seed: number;
 }
 
@@ -177,7 +186,7 @@ interface SweepContext {
 function sweepParam(ctx: SweepContext, p: RangedParam, xs: number[]): { sweep: Sweep1D; timedOut: boolean } {
   const sweep: Sweep1D = { param: p, points: [], improper: [], boundaries: [] };
   for (const x of xs) {
-    if (Date.now() > ctx.deadline) return { sweep, timedOut: true };
+    if (ctx.deadline.expired()) return { sweep, timedOut: true };
     const sp = statusAt(ctx.family, { ...ctx.defaults, [p.name]: x }, ctx.deadline, ctx.seed);
     sweep.points.push({ x, status: sp.status });
     if (sp.status === "improper") sweep.improper.push(sp);
@@ -185,8 +194,9 @@ function sweepParam(ctx: SweepContext, p: RangedParam, xs: number[]): { sweep: S
   return { sweep, timedOut: false };
 }
 
-/** Refines every change of status between neighbouring samples by BOUNDARY_STEPS bisection steps. */
-function refineBoundaries(ctx: SweepContext, sweep: Sweep1D): void {
+/** Refines every change of status between neighbouring samples by BOUNDARY_STEPS bisection steps; false when the time budget cut a refinement short. */
+function refineBoundaries(ctx: SweepContext, sweep: Sweep1D): boolean {
+  let complete = true;
   const name = sweep.param.name;
   for (let i = 0; i + 1 < sweep.points.length; i++) {
     const a = sweep.points[i]!;
@@ -194,7 +204,11 @@ function refineBoundaries(ctx: SweepContext, sweep: Sweep1D): void {
     if (a.status === b.status) continue;
     let lo = a.x;
     let hi = b.x;
-    for (let k = 0; k < BOUNDARY_STEPS && Date.now() <= ctx.deadline; k++) {
+    for (let k = 0; k < BOUNDARY_STEPS; k++) {
+      if (ctx.deadline.expired()) {
+        complete = false;
+        break;
+      }
       const m = 0.5 * (lo + hi);
       const st = statusAt(ctx.family, { ...ctx.defaults, [name]: m }, ctx.deadline, ctx.seed).status;
       if (st === a.status) lo = m;
@@ -202,6 +216,7 @@ function refineBoundaries(ctx: SweepContext, sweep: Sweep1D): void {
     }
     sweep.boundaries.push({ x: 0.5 * (lo + hi), left: a.status, right: b.status });
   }
+  return complete;
 }
 
 /** Extra seeded samples beyond the corners of the parameter box, when there are several parameters. */
@@ -210,9 +225,9 @@ export const JOINT_RANDOM_SAMPLES = 6;
 /** Joint samples of several parameters: the corners of the box (up to 4 parameters) and seeded random points; the improper ones. */
 function jointSamples(ctx: SweepContext, params: RangedParam[], rnd: () => number): { improper: SweepPoint[]; timedOut: boolean } {
   const improper: SweepPoint[] = [];
-  const corners = 1 << Math.min(params.length, 4);
+  const corners = 1 << Math.min(params.length, JOINT_CORNER_PARAMS);
   for (let c = 0; c < corners + JOINT_RANDOM_SAMPLES; c++) {
-    if (Date.now() > ctx.deadline) return { improper, timedOut: true };
+    if (ctx.deadline.expired()) return { improper, timedOut: true };
     const values = { ...ctx.defaults };
     params.forEach((p, k) => {
       values[p.name] = c < corners ? ((c >> k) & 1 ? p.hi : p.lo) : p.lo + (p.hi - p.lo) * rnd();
@@ -242,7 +257,7 @@ function improperInRange(sweeps: Sweep1D[], joint: SweepPoint[], params: RangedP
  * Sweeps each ranged parameter (others at defaults), refines the boundaries between proper and improper
  * samples by bisection, and adds seeded joint samples when there are several parameters.
  */
-export function analyseRanges(family: LossFamily, defaultVerdict: PropernessVerdict, deadline: number, seed: number): RangeOutcome {
+export function analyseRanges(family: LossFamily, defaultVerdict: PropernessVerdict, deadline: Deadline, seed: number): RangeOutcome {
   const params = rangedParams(family);
   const findings: Finding[] = [];
   if (params.length === 0) return { report: "", findings };
@@ -250,12 +265,12 @@ export function analyseRanges(family: LossFamily, defaultVerdict: PropernessVerd
   const rnd = seededRandom(seed ^ 0x5bd1e995);
   const sweeps: Sweep1D[] = [];
   let timedOut = false;
-  const uniform = params.length === 1 ? 8 : 5;
+  const uniform = params.length === 1 ? SWEEP_CELLS_SINGLE : SWEEP_CELLS_EACH;
   for (const p of params) {
     // The samples are drawn for every parameter, also after a time-out, so the seeded sequence does not depend on time.
     const r = sweepParam(ctx, p, paramSamples(p, rnd, uniform));
     if (r.timedOut) timedOut = true;
-    refineBoundaries(ctx, r.sweep);
+    if (!refineBoundaries(ctx, r.sweep)) timedOut = true;
     sweeps.push(r.sweep);
   }
   let joint: SweepPoint[] = [];
@@ -264,6 +279,9 @@ export function analyseRanges(family: LossFamily, defaultVerdict: PropernessVerd
     joint = j.improper;
     if (j.timedOut) timedOut = true;
   }
+  // A sample analysed while the deadline passed may have stopped early (status unknown): the clock never
+  // goes back, so a deadline passed anywhere in the sweep is still passed here.
+  if (deadline.expired()) timedOut = true;
   const texts = sweeps.map(describeSweep).filter((t) => t.length > 0);
   if (joint.length > 0) {
     const v = joint[0]!.values;

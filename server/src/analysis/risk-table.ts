@@ -3,7 +3,8 @@
  * uniform grid, geometric points near both endpoints and seeded random points), extended by points on
  * both sides of every jump located inside a grid cell.
  */
-import type { LossFunctions } from "../loss-model.js";
+import type { LossFunctions, RealFn } from "../loss-model.js";
+import type { Deadline } from "./budget.js";
 import { probabilityGrid, seededRandom } from "./numeric/sampling.js";
 import type { RiskTable } from "./recovery.js";
 import { safeCall } from "./margin.js";
@@ -65,6 +66,36 @@ export const MAX_JUMPS = 16;
 /** Offsets around a located jump at which extra points are sampled (both sides). */
 export const JUMP_OFFSETS: readonly number[] = [1e-10, 1e-7, 1e-5, 1e-4, 1e-3, 2.5e-3];
 
+/** Halvings of a cell at most while locating a jump (60 halvings take any grid cell below the 1e-15 width that also stops the loop). */
+export const JUMP_MAX_HALVINGS = 60;
+/** Cells probed for jumps between two readings of the clock (a probe costs up to JUMP_MAX_HALVINGS closure calls). */
+const JUMP_CLOCK_STRIDE = 16;
+
+/**
+ * Halves the cell [qs[j], qs[j+1]] of the partial loss `f` towards the half that deviates most from the
+ * neighbours' slope `sbar`; returns the final bracket when the deviation persists (a jump), else null.
+ */
+function locateJump(f: RealFn, lo: number, hi: number, flo: number, fhi: number, sbar: number): [number, number] | null {
+  const dev = (a: number, b: number, fa: number, fb: number) => Math.abs(fb - fa - sbar * (b - a));
+  const cellDev = dev(lo, hi, flo, fhi);
+  const floor = 1e-12 * (1 + Math.abs(flo) + Math.abs(fhi));
+  if (!(cellDev > floor)) return null;
+  for (let k = 0; k < JUMP_MAX_HALVINGS && hi - lo > 1e-15; k++) {
+    if (k === JUMP_PROBE_HALVINGS && !(dev(lo, hi, flo, fhi) > Math.max(floor, JUMP_PERSIST_FRACTION * cellDev))) return null;
+    const m = 0.5 * (lo + hi);
+    const fm = safeCall(f, m);
+    if (!Number.isFinite(fm)) return null;
+    if (dev(lo, m, flo, fm) >= dev(m, hi, fm, fhi)) {
+      hi = m;
+      fhi = fm;
+    } else {
+      lo = m;
+      flo = fm;
+    }
+  }
+  return [lo, hi];
+}
+
 /**
  * Locates discontinuities of l1 and l0 inside grid cells and returns extra sample points on both sides
  * of each, so small jumps between grid points (which make a loss improper right next to the diagonal)
@@ -72,7 +103,7 @@ export const JUMP_OFFSETS: readonly number[] = [1e-10, 1e-7, 1e-5, 1e-4, 1e-3, 2
  * towards the half that deviates most from that prediction. A jump keeps its deviation at every level,
  * a smooth change loses it in proportion to the width.
  */
-export function jumpPoints(fns: LossFunctions, t: Table, deadline: number): number[] {
+export function jumpPoints(fns: LossFunctions, t: Table, deadline: Deadline): number[] {
   const extra: number[] = [];
   const n = t.qs.length;
   for (const [vals, f] of [[t.l1, fns.l1], [t.l0, fns.l0]] as const) {
@@ -83,41 +114,17 @@ export function jumpPoints(fns: LossFunctions, t: Table, deadline: number): numb
     let found = 0;
     for (let j = 0; j + 1 < n && found < MAX_JUMPS; j++) {
       // Past the deadline the probe stops; the search that follows reports the time-out.
-      if ((j & 15) === 0 && Date.now() > deadline) return extra;
+      if (j % JUMP_CLOCK_STRIDE === 0 && deadline.expired()) return extra;
       if (!t.interior[j] || !t.interior[j + 1]) continue;
-      let lo = t.qs[j]!;
-      let hi = t.qs[j + 1]!;
-      let flo = vals[j]!;
-      let fhi = vals[j + 1]!;
+      const flo = vals[j]!;
+      const fhi = vals[j + 1]!;
       if (!Number.isFinite(flo) || !Number.isFinite(fhi)) continue;
       const sides = [slope(j - 1), slope(j + 1)].filter(Number.isFinite);
       if (sides.length === 0) continue;
       const sbar = sides.reduce((x, y) => x + y, 0) / sides.length;
-      const dev = (a: number, b: number, fa: number, fb: number) => Math.abs(fb - fa - sbar * (b - a));
-      const cellDev = dev(lo, hi, flo, fhi);
-      const floor = 1e-12 * (1 + Math.abs(flo) + Math.abs(fhi));
-      if (!(cellDev > floor)) continue;
-      let ok = true;
-      for (let k = 0; k < 60 && hi - lo > 1e-15; k++) {
-        if (k === JUMP_PROBE_HALVINGS && !(dev(lo, hi, flo, fhi) > Math.max(floor, JUMP_PERSIST_FRACTION * cellDev))) {
-          ok = false;
-          break;
-        }
-        const m = 0.5 * (lo + hi);
-        const fm = safeCall(f, m);
-        if (!Number.isFinite(fm)) {
-          ok = false;
-          break;
-        }
-        if (dev(lo, m, flo, fm) >= dev(m, hi, fm, fhi)) {
-          hi = m;
-          fhi = fm;
-        } else {
-          lo = m;
-          flo = fm;
-        }
-      }
-      if (!ok) continue;
+      const bracket = locateJump(f, t.qs[j]!, t.qs[j + 1]!, flo, fhi, sbar);
+      if (!bracket) continue;
+      const [lo, hi] = bracket;
       const c = 0.5 * (lo + hi);
       found++;
       extra.push(lo, hi);

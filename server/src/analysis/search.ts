@@ -13,6 +13,7 @@ import { goldenMin } from "./numeric/minimise.js";
 import { safeCall } from "./margin.js";
 import { riskTol, tableRisk, type Table } from "./risk-table.js";
 import type { Counterexample } from "./messages.js";
+import { CLOCK_STRIDE, type Deadline } from "./budget.js";
 
 export type { Counterexample } from "./messages.js";
 
@@ -20,6 +21,8 @@ export type { Counterexample } from "./messages.js";
 export const SLOPE_TOL = 1e-6;
 /** Confirmed slope points collected as evidence once a counterexample is known (more only cost time). */
 export const SLOPE_EVIDENCE_POINTS = 4;
+/** Candidates of the table scan refined by golden section (the largest relative gaps; each costs one minimisation of ≈ 60 risk evaluations). */
+export const MAX_CANDIDATES = 6;
 
 /** A non-finite value of a partial loss inside (0, 1). */
 export interface NonFinite {
@@ -68,13 +71,12 @@ interface Candidate {
 }
 
 /** The table scan: for every η, the q of the grid with the lowest risk; the best candidates by relative gap. */
-function scanCandidates(t: Table, deadline: number): { candidates: Candidate[]; timedOut: boolean } {
+function scanCandidates(t: Table, deadline: Deadline): { candidates: Candidate[]; timedOut: boolean } {
   const n = t.qs.length;
   const cands: Candidate[] = [];
-  const keep = 6;
   let timedOut = false;
   for (let i = 0; i < n; i++) {
-    if ((i & 31) === 0 && Date.now() > deadline) {
+    if (i % CLOCK_STRIDE === 0 && deadline.expired()) {
       timedOut = true;
       break;
     }
@@ -97,10 +99,10 @@ function scanCandidates(t: Table, deadline: number): { candidates: Candidate[]; 
     const gap = diag - best;
     if (gap > t.tol * scale) {
       const score = gap / (1 + Math.abs(diag));
-      if (cands.length < keep || score > cands[cands.length - 1]!.score) {
+      if (cands.length < MAX_CANDIDATES || score > cands[cands.length - 1]!.score) {
         cands.push({ eta, j: bestJ, score });
         cands.sort((x, y) => y.score - x.score);
-        if (cands.length > keep) cands.pop();
+        if (cands.length > MAX_CANDIDATES) cands.pop();
       }
     }
   }
@@ -121,12 +123,12 @@ function refineCandidate(fns: LossFunctions, t: Table, c: Candidate): Counterexa
  * The slope test at q = η: where ∂L(η, q)/∂q ≠ 0 at q = η, a descent from η in the downhill direction
  * is tried and confirmed. Stops after SLOPE_EVIDENCE_POINTS confirmed points.
  */
-function slopeSearch(fns: LossFunctions, t: Table, deadline: number): { confirmed: Counterexample[]; points: number[]; timedOut: boolean } {
+function slopeSearch(fns: LossFunctions, t: Table, deadline: Deadline): { confirmed: Counterexample[]; points: number[]; timedOut: boolean } {
   const n = t.qs.length;
   const confirmed: Counterexample[] = [];
   const points: number[] = [];
   for (let i = 0; i < n; i++) {
-    if ((i & 31) === 0 && Date.now() > deadline) return { confirmed, points, timedOut: true };
+    if (i % CLOCK_STRIDE === 0 && deadline.expired()) return { confirmed, points, timedOut: true };
     // A few confirmed slope points suffice as evidence for the diagnostics (each one is a counterexample).
     if (points.length >= SLOPE_EVIDENCE_POINTS) break;
     const eta = t.qs[i]!;
@@ -151,7 +153,7 @@ function slopeSearch(fns: LossFunctions, t: Table, deadline: number): { confirme
 }
 
 /** The global search on the table: the confirmed counterexample with the largest relative gap, if any. */
-export function searchCounterexample(fns: LossFunctions, t: Table, deadline: number): SearchOutcome {
+export function searchCounterexample(fns: LossFunctions, t: Table, deadline: Deadline): SearchOutcome {
   const nonFinite = firstNonFinite(t);
   const scan = scanCandidates(t, deadline);
   let counterexample: Counterexample | null = null;

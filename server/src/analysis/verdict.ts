@@ -6,6 +6,7 @@
  * Cor. 2; Bao 2023, "Proper Losses, Moduli of Convexity, and Surrogate Regret Bounds", COLT, §2).
  */
 import type { Finding, LossFunctions, LossSpec } from "../loss-model.js";
+import type { Deadline } from "./budget.js";
 import { deriveLossFunctions } from "./derive.js";
 import { checkMarginConvexity } from "./composite.js";
 import { checkMarginCalibration, marginDerivative, safeCall } from "./margin.js";
@@ -57,7 +58,7 @@ function marginFindings(spec: LossSpec, findings: Finding[], noLink: boolean): v
 }
 
 /** The scan table of an instance: grid and tolerances by form, with extra points around jumps where jumps can occur. */
-function scanTable(spec: LossSpec, fns: LossFunctions, deadline: number, seed: number, resolution: number): Table {
+function scanTable(spec: LossSpec, fns: LossFunctions, deadline: Deadline, seed: number, resolution: number): Table {
   const numericH = spec.form === "bayes" && !spec.dbayes;
   const direct = spec.form === "partials" || spec.form === "score-partials";
   const coarse = buildTable(
@@ -72,7 +73,7 @@ function scanTable(spec: LossSpec, fns: LossFunctions, deadline: number, seed: n
 }
 
 /** Checks of the declared weight and Bayes-risk clauses (the full analysis only). */
-function clauseFindings(spec: LossSpec, fns: LossFunctions, deadline: number): Finding[] {
+function clauseFindings(spec: LossSpec, fns: LossFunctions): Finding[] {
   const out: Finding[] = [];
   if (spec.form === "weight") {
     const f = checkWeightSign(spec);
@@ -84,7 +85,7 @@ function clauseFindings(spec: LossSpec, fns: LossFunctions, deadline: number): F
   } else if (spec.bayes) {
     const f = checkBayesConcavity((q) => safeCall(spec.bayes!, q), true);
     if (f) out.push(f);
-    const m = checkDeclaredBayes(spec, fns, deadline);
+    const m = checkDeclaredBayes(spec, fns);
     if (m) out.push(m);
   }
   return out;
@@ -102,7 +103,7 @@ function impropernessEvidence(spec: LossSpec, fns: LossFunctions, table: Table, 
 }
 
 /** The analysis of one instance (one parameter assignment). `full` adds the diagnostics beyond the verdict. */
-export function analyseSpec(spec: LossSpec, deadline: number, seed: number, resolution: number, full: boolean): InstanceResult {
+export function analyseSpec(spec: LossSpec, deadline: Deadline, seed: number, resolution: number, full: boolean): InstanceResult {
   const derived = deriveLossFunctions(spec);
   const findings: Finding[] = [...derived.findings];
   const fns = derived.fns;
@@ -120,7 +121,7 @@ export function analyseSpec(spec: LossSpec, deadline: number, seed: number, reso
   const table = scanTable(spec, fns, deadline, seed, resolution);
   const s = searchCounterexample(fns, table, deadline);
   if (s.nonFinite) findings.push(nonFiniteValueFinding(spec.form, s.nonFinite));
-  if (full) findings.push(...clauseFindings(spec, fns, deadline));
+  if (full) findings.push(...clauseFindings(spec, fns));
   const ce = s.counterexample;
   if (ce) {
     findings.push(improperFinding(ce));
@@ -135,7 +136,7 @@ export function analyseSpec(spec: LossSpec, deadline: number, seed: number, reso
     findings.push(nonFiniteUnknownFinding(s.nonFinite));
     return { ...base, verdict: "unknown", findings, fns, table };
   }
-  if (full && Date.now() > deadline) {
+  if (full && deadline.expired()) {
     // No counterexample was found, but strictness was not examined: claim only properness and say why.
     findings.push(strictnessTimedOutFinding());
     return { ...base, verdict: "proper", findings, fns, table };
