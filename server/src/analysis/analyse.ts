@@ -66,9 +66,48 @@ const IMPROPERNESS_EVIDENCE = new Set<string>(["improper", "l1-increasing", "l0-
 /** The wall-clock budget per stage (a last resort; the searches are bounded in steps); generous for the CLI, the editor passes its own. */
 export const DEFAULT_STAGE_DEADLINE_MS = 2000;
 
+/**
+ * The properness findings as shown: the range sweep appended to the verdict the user reads first, and the
+ * evidence of impropriety as warnings when the loss says `expect improper`.
+ */
+function presentedFindings(family: LossFamily, prop: PropernessResult): Finding[] {
+  // A loss declared `expect improper` is used knowingly (a focal loss with its recovery map, say): the
+  // evidence of impropriety is still shown, as warnings, so a CI gate on errors passes.
+  const acknowledged = prop.verdict === "improper" && family.claims.some((c) => c.kind === "improper");
+  return prop.findings.map((f) => {
+    let out = f;
+    // The range sweep belongs with the verdict the user reads first ("improper for g > 0; proper at g = 0").
+    if (f.code === "improper" && prop.paramReport) out = { ...out, message: `${out.message} Over the declared ranges: ${prop.paramReport}.`, data: { ...out.data, paramReport: prop.paramReport } };
+    if (acknowledged && IMPROPERNESS_EVIDENCE.has(f.code) && (f.severity ?? "error") === "error") {
+      out = { ...out, severity: "warning", message: `${out.message} (Expected: the loss says \`expect improper\`.)` };
+    }
+    return out;
+  });
+}
+
+/** Both routes bound the decision regret, so the guaranteed exponent is the better of the two. */
+function bestExponent(exponents: { viaModulus: number | null; direct: number | null }): number | null {
+  const known = [exponents.viaModulus, exponents.direct].filter((x): x is number => x !== null && Number.isFinite(x));
+  return known.length > 0 ? Math.max(...known) : null;
+}
+
+/** One line for code lenses and the status bar: the verdict, then the curvature or the counterexample, then the ranges. */
+function summaryLine(prop: PropernessResult, curvature: CurvatureResult | null): string {
+  const verdictText = verdictWords(prop.verdict);
+  let summary = verdictText;
+  if (curvature) summary = `${verdictText} · ${curvature.summary}`;
+  else if (prop.verdict === "improper" && prop.counterexample) {
+    const c = prop.counterexample;
+    summary = `${verdictText}: at η = ${fmt(c.eta, 4)}, q = ${fmt(c.q, 4)} beats q = η`;
+  }
+  if (prop.paramReport) summary += ` · ${prop.paramReport}`;
+  return summary;
+}
+
 /** Analyses a loss at its parameter defaults, and across declared ranges where the checks support it. */
 export function analyseFamily(family: LossFamily, options: AnalyseOptions = {}): LossAnalysis {
   const deadlineMs = options.deadlineMs ?? DEFAULT_STAGE_DEADLINE_MS;
+  const clock = options.clock ? { clock: options.clock } : {};
   const defaults = Object.fromEntries(family.params.map((p) => [p.name, p.default]));
   let spec: ReturnType<LossFamily["instantiate"]> | null = null;
   try {
@@ -78,45 +117,22 @@ export function analyseFamily(family: LossFamily, options: AnalyseOptions = {}):
   }
   const prop: PropernessResult = analyseProperness(family, {
     deadlineMs,
-    ...(options.clock ? { clock: options.clock } : {}),
+    ...clock,
     ...(options.seed !== undefined ? { seed: options.seed } : {}),
     ...(options.gridResolution !== undefined ? { resolution: Math.max(11, Math.round(options.gridResolution)) } : {}),
   });
-  // A loss declared `expect improper` is used knowingly (a focal loss with its recovery map, say): the
-  // evidence of impropriety is still shown, as warnings, so a CI gate on errors passes.
-  const acknowledged = prop.verdict === "improper" && family.claims.some((c) => c.kind === "improper");
-  const findings: Finding[] = prop.findings.map((f) => {
-    let out = f;
-    // The range sweep belongs with the verdict the user reads first ("improper for g > 0; proper at g = 0").
-    if (f.code === "improper" && prop.paramReport) out = { ...out, message: `${out.message} Over the declared ranges: ${prop.paramReport}.`, data: { ...out.data, paramReport: prop.paramReport } };
-    if (acknowledged && IMPROPERNESS_EVIDENCE.has(f.code) && (f.severity ?? "error") === "error") {
-      out = { ...out, severity: "warning", message: `${out.message} (Expected: the loss says \`expect improper\`.)` };
-    }
-    return out;
-  });
+  const findings = presentedFindings(family, prop);
 
   // Curvature and bounds are about the Bayes risk of a proper loss; for an improper loss the regret is
   // not a Bregman divergence of −H and the bounds would not apply.
   let curvature: CurvatureResult | null = null;
   if (prop.fns && (prop.verdict === "strictly-proper" || prop.verdict === "proper")) {
-    curvature = analyseCurvature(prop.fns, { deadlineMs, ...(options.clock ? { clock: options.clock } : {}) });
+    curvature = analyseCurvature(prop.fns, { deadlineMs, ...clock });
     findings.push(...curvature.findings);
   }
 
   const exponents = curvature?.exponents ?? { viaModulus: null, direct: null, explanation: null };
-  // Both routes bound the decision regret, so the guaranteed exponent is the better of the two.
-  const known = [exponents.viaModulus, exponents.direct].filter((x): x is number => x !== null && Number.isFinite(x));
-  const bestExponent = known.length > 0 ? Math.max(...known) : null;
-  findings.push(...evaluateClaims(family, prop, { lambda: curvature?.lambda ?? null, exponent: bestExponent }));
-
-  const verdictText = verdictWords(prop.verdict);
-  let summary = verdictText;
-  if (curvature) summary = `${verdictText} · ${curvature.summary}`;
-  else if (prop.verdict === "improper" && prop.counterexample) {
-    const c = prop.counterexample;
-    summary = `${verdictText}: at η = ${fmt(c.eta, 4)}, q = ${fmt(c.q, 4)} beats q = η`;
-  }
-  if (prop.paramReport) summary += ` · ${prop.paramReport}`;
+  findings.push(...evaluateClaims(family, prop, { lambda: curvature?.lambda ?? null, exponent: bestExponent(exponents) }));
 
   const result: LossAnalysis = {
     verdict: prop.verdict,
@@ -127,7 +143,7 @@ export function analyseFamily(family: LossFamily, options: AnalyseOptions = {}):
     exponents: { viaModulus: exponents.viaModulus, direct: exponents.direct },
     threshold: spec.threshold,
     params: spec.params,
-    summary,
+    summary: summaryLine(prop, curvature),
     findings,
     exponentNote: exponents.explanation,
     lambdaAt: curvature?.lambdaAt ?? null,

@@ -115,6 +115,68 @@ function rebuildModels(fns: LossFunctions, threshold: number, kinkAtC: boolean):
   };
 }
 
+/** w on the q grid, blanked next to point masses (which are not functions; each gets a note instead). */
+function weightSeries(models: CurvatureModels, curvature: CurvatureResult, qs: number[], notes: Note[]): Series {
+  const masses = curvature.weightFeatures.pointMasses;
+  const near = 2 / (qs.length - 1);
+  const weightFn: RealFn = (q) => (masses.some((p) => Math.abs(q - p.q) < near) ? NaN : models.weight(q));
+  const weight = series("weight", models.weightIsNumeric ? "w(q) (from second differences of H)" : "w(q)", qs, weightFn, notes, "weight-samples");
+  for (const p of masses) notes.push({ kind: "point-mass", text: `w has a point mass ${fmt(p.mass)} at q = ${fmt(p.q)} (a kink of H), not drawn as a function.` });
+  return weight;
+}
+
+/** δ and δ** on the ε grid `es` (none, with a note, when the modulus model is missing). */
+function modulusSeries(models: CurvatureModels, es: number[], notes: Note[]): Series[] {
+  const m = models.modulus;
+  if (!m) {
+    notes.push({ kind: "modulus-unavailable", text: "δ and δ** not available (see the curvature findings)." });
+    return [];
+  }
+  // exactValue memoises δ, so the envelope below reuses these evaluations.
+  return [
+    series("delta", "δ(ε)", es, (e) => m.envelope.exactValue(e), notes, "modulus-samples"),
+    series("delta-envelope", "δ**(ε)", es, (e) => m.envelope.value(e), notes, "modulus-samples"),
+  ];
+}
+
+/** Surrogate regrets up to what the direct route needs for a cost-c regret of ¼ (or the modulus route's when that is missing). */
+function regretRange(models: CurvatureModels): number {
+  let rMax = NaN;
+  if (models.direct) rMax = models.direct.envelope.value(Math.min(0.25, models.direct.alphaMax));
+  if (!(rMax > 0) && models.modulus) rMax = 2 * models.modulus.envelope.value(Math.min(1, (models.modulus.vacuousBelow ?? 0) + 0.25));
+  if (!(rMax > 0) || !Number.isFinite(rMax)) rMax = 1;
+  return rMax;
+}
+
+/** The decision-regret bound against surrogate regret by each route, with the axes note. */
+function boundSeries(models: CurvatureModels, c: number, es: number[], envelopeSamples: (number | null)[] | null, points: number, notes: Note[]): Series[] {
+  const bounds: Series[] = [];
+  const rs = grid(0, regretRange(models), points);
+  if (models.modulus && envelopeSamples) {
+    const m = models.modulus;
+    // The curves invert exact envelope samples piecewise linearly (an exact inverse per point costs a
+    // root search each; the inverse table and hovers use the exact inverses).
+    const inv = inverseFromSamples(es, envelopeSamples, m.vacuousBelow ?? 0);
+    bounds.push(series("bound-modulus", "modulus route (δ**)⁻¹(R/2) (Bao 2023, Cor. 7)", rs, (r) => inv(r / 2), notes, "bound-samples"));
+    if (m.vacuousBelow !== null) notes.push({ kind: "modulus-vacuous", text: `The modulus-route bound never goes below ε = ${fmt(m.vacuousBelow)} (δ** = 0 there: vacuous).` });
+  }
+  if (models.direct) {
+    const d = models.direct;
+    const as = grid(0, d.alphaMax, points);
+    const inv = inverseFromSamples(as, as.map((a) => finiteOrNull(d.envelope.value(a))), 0);
+    bounds.push(series("bound-direct", `direct (ψ_RW**)⁻¹(R) at c = ${fmt(c)} (RW09 Thm 3)`, rs, inv, notes, "bound-samples"));
+  }
+  if (models.psi && Math.abs(c - 0.5) < 1e-12) {
+    const p = models.psi;
+    const ts = grid(0, 1, points);
+    const inv = inverseFromSamples(ts, ts.map((t) => finiteOrNull(p.psi(t))), 0);
+    // ψ⁻¹ is in 0-1 regret units (θ = 2α); halve it to share the cost-½ axis of the other routes.
+    bounds.push(series("bound-psi", "ψ-transform ψ⁻¹(R)/2 (BJM 2006)", rs, (r) => inv(r) / 2, notes, "bound-samples"));
+  }
+  notes.push({ kind: "bound-axes", text: `Bound curves: x = surrogate regret (loss units), y = cost-${fmt(c)} regret bound (at c = ½, half the usual 0-1 regret).` });
+  return bounds;
+}
+
 /**
  * Samples the curves of a loss for plotting. Reuses the models of the `analyseCurvature` call that
  * produced `curvature` when it was made on the same LossFunctions object. Never throws.
@@ -130,58 +192,10 @@ export function sampleCurves(fns: LossFunctions, curvature: CurvatureResult, opt
     const models = cachedCurvatureModels(fns) ?? rebuildModels(fns, c, kinkAtC);
     const partials = [series("l1", "l1(q)", qs, fns.l1, notes), series("l0", "l0(q)", qs, fns.l0, notes)];
     const bayes = series("bayes", "H(q)", qs, boundedUnitFn(fns.bayes), notes);
-
-    // Point masses are not functions: blank the samples next to them instead of drawing a spike.
-    const masses = curvature.weightFeatures.pointMasses;
-    const near = 2 / (points - 1);
-    const weightFn: RealFn = (q) => (masses.some((p) => Math.abs(q - p.q) < near) ? NaN : models.weight(q));
-    const weight = series("weight", models.weightIsNumeric ? "w(q) (from second differences of H)" : "w(q)", qs, weightFn, notes, "weight-samples");
-    for (const p of masses) notes.push({ kind: "point-mass", text: `w has a point mass ${fmt(p.mass)} at q = ${fmt(p.q)} (a kink of H), not drawn as a function.` });
-
-    const modulus: Series[] = [];
-    const bounds: Series[] = [];
+    const weight = weightSeries(models, curvature, qs, notes);
     const es = grid(0, 1, points);
-    let envelopeSamples: (number | null)[] | null = null;
-    if (models.modulus) {
-      const m = models.modulus;
-      // exactValue memoises δ, so the envelope below reuses these evaluations.
-      modulus.push(series("delta", "δ(ε)", es, (e) => m.envelope.exactValue(e), notes, "modulus-samples"));
-      const env = series("delta-envelope", "δ**(ε)", es, (e) => m.envelope.value(e), notes, "modulus-samples");
-      modulus.push(env);
-      envelopeSamples = env.y;
-    } else {
-      notes.push({ kind: "modulus-unavailable", text: "δ and δ** not available (see the curvature findings)." });
-    }
-
-    // Surrogate regrets up to what the direct route needs for a cost-c regret of ¼ (or the modulus route's when that is missing).
-    let rMax = NaN;
-    if (models.direct) rMax = models.direct.envelope.value(Math.min(0.25, models.direct.alphaMax));
-    if (!(rMax > 0) && models.modulus) rMax = 2 * models.modulus.envelope.value(Math.min(1, (models.modulus.vacuousBelow ?? 0) + 0.25));
-    if (!(rMax > 0) || !Number.isFinite(rMax)) rMax = 1;
-    const rs = grid(0, rMax, points);
-    if (models.modulus && envelopeSamples) {
-      const m = models.modulus;
-      // The curves invert exact envelope samples piecewise linearly (an exact inverse per point costs a
-      // root search each; the inverse table and hovers use the exact inverses).
-      const inv = inverseFromSamples(es, envelopeSamples, m.vacuousBelow ?? 0);
-      bounds.push(series("bound-modulus", "modulus route (δ**)⁻¹(R/2) (Bao 2023, Cor. 7)", rs, (r) => inv(r / 2), notes, "bound-samples"));
-      if (m.vacuousBelow !== null) notes.push({ kind: "modulus-vacuous", text: `The modulus-route bound never goes below ε = ${fmt(m.vacuousBelow)} (δ** = 0 there: vacuous).` });
-    }
-    if (models.direct) {
-      const d = models.direct;
-      const as = grid(0, d.alphaMax, points);
-      const inv = inverseFromSamples(as, as.map((a) => finiteOrNull(d.envelope.value(a))), 0);
-      bounds.push(series("bound-direct", `direct (ψ_RW**)⁻¹(R) at c = ${fmt(c)} (RW09 Thm 3)`, rs, inv, notes, "bound-samples"));
-    }
-    if (models.psi && Math.abs(c - 0.5) < 1e-12) {
-      const p = models.psi;
-      const ts = grid(0, 1, points);
-      const inv = inverseFromSamples(ts, ts.map((t) => finiteOrNull(p.psi(t))), 0);
-      // ψ⁻¹ is in 0-1 regret units (θ = 2α); halve it to share the cost-½ axis of the other routes.
-      bounds.push(series("bound-psi", "ψ-transform ψ⁻¹(R)/2 (BJM 2006)", rs, (r) => inv(r) / 2, notes, "bound-samples"));
-    }
-    notes.push({ kind: "bound-axes", text: `Bound curves: x = surrogate regret (loss units), y = cost-${fmt(c)} regret bound (at c = ½, half the usual 0-1 regret).` });
-
+    const modulus = modulusSeries(models, es, notes);
+    const bounds = boundSeries(models, c, es, modulus[1]?.y ?? null, points, notes);
     const link = fns.link ? series("link", "ψ(q)", qs, fns.link, notes) : null;
     return { partials, bayes, weight, modulus, bounds, link, notes };
   } catch (err) {
