@@ -3,11 +3,15 @@
  * curvature and surrogate-regret bounds for proper losses, and the `expect` claims.
  * Pure: takes a `LossFamily`, returns figures and clause-attributed findings; never throws.
  */
+import { DEFAULT_SETTINGS, settingSpec } from "../settings.js";
 import { analyseCurvature, type CurvatureResult } from "./curvature.js";
 import type { Finding, LossFamily, LossFunctions, Note } from "../loss-model.js";
 import { fmt, verdictText as verdictWords } from "../display.js";
 import { analyseProperness, evaluateClaims, type PropernessResult } from "./properness.js";
 import type { Clock } from "./budget.js";
+
+/** The fewest grid points the scans accept (the setting's documented minimum). */
+const MIN_GRID = settingSpec("analysis.gridResolution").minimum ?? 11;
 
 export type Verdict = "strictly-proper" | "proper" | "improper" | "unknown";
 
@@ -63,8 +67,6 @@ export interface AnalyseOptions {
 /** Findings that only say "this loss is improper"; downgraded to warnings when the loss claims `expect improper`. */
 const IMPROPERNESS_EVIDENCE = new Set<string>(["improper", "l1-increasing", "l0-decreasing", "stationarity-mismatch"]);
 
-/** The wall-clock budget per stage (a last resort; the searches are bounded in steps); generous for the CLI, the editor passes its own. */
-export const DEFAULT_STAGE_DEADLINE_MS = 2000;
 
 /**
  * The properness findings as shown: the range sweep appended to the verdict the user reads first, and the
@@ -106,7 +108,7 @@ function summaryLine(prop: PropernessResult, curvature: CurvatureResult | null):
 
 /** Analyses a loss at its parameter defaults, and across declared ranges where the checks support it. */
 export function analyseFamily(family: LossFamily, options: AnalyseOptions = {}): LossAnalysis {
-  const deadlineMs = options.deadlineMs ?? DEFAULT_STAGE_DEADLINE_MS;
+  const deadlineMs = options.deadlineMs ?? DEFAULT_SETTINGS.deadlineMs;
   const clock = options.clock ? { clock: options.clock } : {};
   const defaults = Object.fromEntries(family.params.map((p) => [p.name, p.default]));
   let spec: ReturnType<LossFamily["instantiate"]> | null = null;
@@ -119,7 +121,7 @@ export function analyseFamily(family: LossFamily, options: AnalyseOptions = {}):
     deadlineMs,
     ...clock,
     ...(options.seed !== undefined ? { seed: options.seed } : {}),
-    ...(options.gridResolution !== undefined ? { resolution: Math.max(11, Math.round(options.gridResolution)) } : {}),
+    ...(options.gridResolution !== undefined ? { resolution: Math.max(MIN_GRID, Math.round(options.gridResolution)) } : {}),
   });
   const findings = presentedFindings(family, prop);
 

@@ -9,6 +9,7 @@
  * Bao 2023, "Proper Losses, Moduli of Convexity, and Surrogate Regret Bounds", COLT (§2): proper means
  * L(η, η) = inf_q L(η, q) for all η; strictly proper means q = η is the unique minimiser.
  */
+import { DEFAULT_SETTINGS } from "../settings.js";
 import type { Finding, LossFamily, LossFunctions } from "../loss-model.js";
 import { internalError } from "./derive.js";
 import { computeRecovery, minimiseRisk, RECOVERY_ETAS, type RecoveryMap } from "./recovery.js";
@@ -45,7 +46,7 @@ export interface PropernessResult {
 /** Options of `analyseProperness`. */
 export interface PropernessOptions {
   /**
-   * Wall-clock budget for the whole analysis, in milliseconds (default DEFAULT_DEADLINE_MS): a last resort,
+   * Wall-clock budget for the whole analysis, in milliseconds (default: the `propriety.analysis.deadlineMs` setting's): a last resort,
    * since every search is bounded in steps; a stage it stops says "unknown" with reason "time-budget".
    */
   deadlineMs?: number;
@@ -57,12 +58,14 @@ export interface PropernessOptions {
   resolution?: number;
 }
 
-/** Default time budget: long enough for two-parameter sweeps on a slow machine, short enough for an editor. */
-export const DEFAULT_DEADLINE_MS = 2000;
 /** Default seed of the random sample points (any fixed value makes runs reproducible). */
 export const DEFAULT_SEED = 20260101;
-/** Uniform part of the scan grid (plus geometric points near both endpoints and seeded random points). */
-export const GRID_RESOLUTION = 200;
+/**
+ * Uniform part of the scan grid (plus geometric points near both endpoints and seeded random points):
+ * the `propriety.analysis.gridResolution` default, so a direct call of the engine scans the grid the
+ * editor and the CLI scan.
+ */
+export const GRID_RESOLUTION = DEFAULT_SETTINGS.gridResolution;
 /** Largest recovery error over the sampled η for which the posterior-recovery finding is reported. */
 export const RECOVERY_TOL = 1e-6;
 /** A sampled minimiser counts as moved away from η when |q* − η| exceeds this (well above minimiser accuracy ~1e-12). */
@@ -96,7 +99,7 @@ function minimiserAndRecovery(fns: LossFunctions, core: InstanceResult & { table
  * "unknown"; a search that runs out of time says so ("analysis-unknown").
  */
 export function analyseProperness(family: LossFamily, options: PropernessOptions = {}): PropernessResult {
-  const deadline = deadlineAfter(options.deadlineMs ?? DEFAULT_DEADLINE_MS, options.clock ?? Date.now);
+  const deadline = deadlineAfter(options.deadlineMs ?? DEFAULT_SETTINGS.deadlineMs, options.clock ?? Date.now);
   const seed = options.seed ?? DEFAULT_SEED;
   const resolution = options.resolution ?? GRID_RESOLUTION;
   try {
