@@ -114,3 +114,26 @@ describe("bad margin input", () => {
     expect(nearlyEqual(r.fns!.link!(0.7), Math.log(0.7 / 0.3) / 2000, 1e-8)).toBe(true);
   });
 });
+
+describe("convexity of φ against rounding in the tail", () => {
+  // Each φ is convex (the logistic, exponential and squared-hinge losses: Bartlett, Jordan & McAuliffe 2006,
+  // Table 1), written as a user writes it: ln(1 + exp(−v)) loses all relative accuracy for v > ~30, where
+  // φ < 1e-13 is rounding noise of ln near 1. Its second differences there must not read as non-convexity.
+  it.each([
+    ["logistic written ln(1 + exp(−v))", (v: number) => Math.log(1 + Math.exp(-v))],
+    ["logistic written log1p(exp(−v))", (v: number) => Math.log1p(Math.exp(-v))],
+    ["logistic in base 2, ln(1 + exp(−v))/ln 2", (v: number) => Math.log(1 + Math.exp(-v)) / Math.LN2],
+    ["exponential exp(−v)", (v: number) => Math.exp(-v)],
+    ["squared hinge max(0, 1 − v)²", (v: number) => Math.max(0, 1 - v) ** 2],
+  ] as const)("%s is convex on the whole scan", (_n, phi) => {
+    expect(scanConvexity(phi)).toEqual({ convex: true, where: null, secondDifference: null });
+  });
+
+  it("a real dent far smaller than φ(0) is still found in the tail: ln(1 + exp(−v)) + 1e-6·exp(−(v − 20)²)", () => {
+    // At v = 20 the logistic φ'' is ~2e-9 while the bump's is −2e-6 at its centre (computed, by hand), so φ is
+    // not convex there; its second difference (~2e-6·h², h ≈ 0.125) is far above the rounding floor (16 ulps of ln 2).
+    const s = scanConvexity((v) => Math.log(1 + Math.exp(-v)) + 1e-6 * Math.exp(-((v - 20) ** 2)));
+    expect(s.convex).toBe(false);
+    expect(Math.abs(s.where! - 20)).toBeLessThan(1);
+  });
+});

@@ -19,6 +19,14 @@ export const MARGIN_SCAN_POINTS = 800;
 export const LINK_SATURATION = 1e-12;
 /** Relative tolerance on second differences of φ when testing convexity (rounding of three values over h²). */
 export const CONVEXITY_REL_TOL = 1e-7;
+/**
+ * Absolute rounding floor of an evaluation of φ, in units of the loss's own scale near v = 0 (max |φ| on
+ * [−1, 1]) times the double-precision epsilon: a formula such as ln(1 + exp(−v)) carries an absolute
+ * error of a few ulps of its intermediate 1 + exp(−v) ≈ 1 however small φ becomes, so its second
+ * differences far out in the tail are rounding noise of that size (common practice: 16 ulps covers the
+ * handful of operations in a closed-form φ and the three values of a second difference).
+ */
+export const CONVEXITY_ABS_ULPS = 16;
 /** Margin (relative to φ's scale) by which H⁻ must exceed H for calibration (above minimisation noise). */
 export const CALIBRATION_TOL = 1e-8;
 
@@ -155,6 +163,8 @@ export interface ConvexityScan {
 export function scanConvexity(phi: RealFn, lo = -MARGIN_SCORE_BOUND, hi = MARGIN_SCORE_BOUND, n = MARGIN_SCAN_POINTS): ConvexityScan {
   const vs = linspace(lo, hi, n);
   const ys = vs.map((v) => safeCall(phi, v));
+  const central = ys.filter((y, i) => Math.abs(vs[i]!) <= 1 && Number.isFinite(y)).map((y) => Math.abs(y));
+  const floor = CONVEXITY_ABS_ULPS * Number.EPSILON * (central.length > 0 ? Math.max(...central) : 0);
   let worst = 0;
   let where: number | null = null;
   for (let i = 1; i + 1 < vs.length; i++) {
@@ -163,7 +173,7 @@ export function scanConvexity(phi: RealFn, lo = -MARGIN_SCORE_BOUND, hi = MARGIN
     const c = ys[i + 1]!;
     if (!Number.isFinite(a) || !Number.isFinite(b) || !Number.isFinite(c)) continue;
     const d2 = a - 2 * b + c;
-    const tol = CONVEXITY_REL_TOL * (Math.abs(a) + 2 * Math.abs(b) + Math.abs(c)) + 1e-300;
+    const tol = CONVEXITY_REL_TOL * (Math.abs(a) + 2 * Math.abs(b) + Math.abs(c)) + floor + 1e-300;
     if (d2 < -tol && d2 < worst) {
       worst = d2;
       where = vs[i]!;
