@@ -323,6 +323,7 @@ describe("parameter ranges", () => {
     { label: "proper in the middle", lo: -1, hi: 1, def: 0, k: (a: number) => Math.max(0, Math.abs(a) - 0.5), report: "improper for a ≤ -0.5002; improper for a ≥ 0.5002; proper for -0.5002 ≤ a ≤ 0.5002" },
     { label: "improper above 1.3", lo: 0, hi: 2, def: 0.5, k: (a: number) => Math.max(0, a - 1.3), report: "improper for a ≥ 1.3; proper for a ≤ 1.3" },
     { label: "proper only at the upper end", lo: 0, hi: 1, def: 1, k: (a: number) => 1 - a, report: "improper for a < 1; proper at a = 1" },
+    { label: "proper only at an interior value", lo: 0, hi: 2, def: 1, k: (a: number) => Math.abs(a - 1), report: "improper for a ≠ 1 in [0, 2]; proper at a = 1" },
   ])("range report, $label", ({ lo, hi, def, k, report }) => {
     const fam: LossFamily = {
       name: "p",

@@ -134,28 +134,38 @@ function describeSweep(s: Sweep1D): string {
   }
   runs.push(cur);
   const near = (a: number, b: number) => Math.abs(a - b) <= 1e-3 * Math.max(span, 1e-300);
-  const isPoint = (r: Run) => near(r.from, r.to) && (near(r.from, lo) || near(r.from, hi));
-  const parts: string[] = [];
+  // A run that shrinks to one value (at an end, or between two refined boundaries) is a point: "proper at a = 1".
+  const isPoint = (r: Run) => near(r.from, r.to);
+  const pointAt = (r: Run) => (near(r.from, lo) ? lo : near(r.to, hi) ? hi : 0.5 * (r.from + r.to));
+  const parts: { t: string; s: Status }[] = [];
+  const [r0, r1, r2] = runs;
+  if (runs.length === 3 && isPoint(r1!) && !isPoint(r0!) && !isPoint(r2!) && r0!.status === r2!.status) {
+    // One status everywhere but at one interior value: "improper for a ≠ 1 in [0, 2]; proper at a = 1".
+    const x = pointAt(r1!);
+    parts.push({ t: `${r0!.status} for ${name} ≠ ${fmtParam(x)} in [${fmtParam(lo)}, ${fmtParam(hi)}]`, s: r0!.status }, { t: `${r1!.status} at ${name} = ${fmtParam(x)}`, s: r1!.status });
+    runs.length = 0;
+  }
   runs.forEach((r, i) => {
-    if (isPoint(r)) {
-      parts.push(`${r.status} at ${name} = ${fmtParam(near(r.from, lo) ? lo : hi)}`);
-      return;
-    }
     const prev = runs[i - 1];
     const next = runs[i + 1];
-    // A neighbouring single-point run at an end makes this bound strict ("g > 0"); otherwise it is a refined boundary.
+    if (isPoint(r)) {
+      parts.push({ t: `${r.status} at ${name} = ${fmtParam(pointAt(r))}`, s: r.status });
+      return;
+    }
+    // A neighbouring point run makes this bound strict ("g > 0"); otherwise it is a refined boundary.
     const strictLeft = !!prev && isPoint(prev);
     const strictRight = !!next && isPoint(next);
-    const leftAt = strictLeft ? lo : near(r.from, lo) ? null : r.from;
-    const rightAt = strictRight ? hi : near(r.to, hi) ? null : r.to;
-    if (leftAt === null && rightAt === null) parts.push(`${r.status} for all ${name} in [${fmtParam(lo)}, ${fmtParam(hi)}]`);
-    else if (leftAt !== null && rightAt !== null)
-      parts.push(`${r.status} for ${fmtParam(leftAt)} ${strictLeft ? "<" : "≤"} ${name} ${strictRight ? "<" : "≤"} ${fmtParam(rightAt)}`);
-    else if (leftAt !== null) parts.push(`${r.status} for ${name} ${strictLeft ? ">" : "≥"} ${fmtParam(leftAt)}`);
-    else parts.push(`${r.status} for ${name} ${strictRight ? "<" : "≤"} ${fmtParam(rightAt!)}`);
+    const leftAt = strictLeft ? pointAt(prev) : near(r.from, lo) ? null : r.from;
+    const rightAt = strictRight ? pointAt(next) : near(r.to, hi) ? null : r.to;
+    let t: string;
+    if (leftAt === null && rightAt === null) t = `${r.status} for all ${name} in [${fmtParam(lo)}, ${fmtParam(hi)}]`;
+    else if (leftAt !== null && rightAt !== null) t = `${r.status} for ${fmtParam(leftAt)} ${strictLeft ? "<" : "≤"} ${name} ${strictRight ? "<" : "≤"} ${fmtParam(rightAt)}`;
+    else if (leftAt !== null) t = `${r.status} for ${name} ${strictLeft ? ">" : "≥"} ${fmtParam(leftAt)}`;
+    else t = `${r.status} for ${name} ${strictRight ? "<" : "≤"} ${fmtParam(rightAt!)}`;
+    parts.push({ t, s: r.status });
   });
   const order: Status[] = ["improper", "proper", "unknown"];
-  const sorted = parts.map((t, i) => ({ t, s: runs[i]!.status })).sort((a, b) => order.indexOf(a.s) - order.indexOf(b.s));
+  const sorted = [...parts].sort((a, b) => order.indexOf(a.s) - order.indexOf(b.s));
   return sorted.map((x) => x.t).join("; ");
 }
 
