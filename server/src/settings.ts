@@ -119,10 +119,14 @@ export function normaliseSettings(raw: unknown, log: (message: string) => void =
   return out;
 }
 
-/** The settings as the nested `propriety.*` object a client sends (initializationOptions, didChangeConfiguration). */
-export function toClientShape(s: AnalysisSettings): Record<string, unknown> {
+/**
+ * Settings (all or some) as the nested `propriety.*` object a client sends (initializationOptions,
+ * didChangeConfiguration) and `normaliseSettings` reads; absent fields stay absent.
+ */
+export function toClientShape(s: Partial<AnalysisSettings>): Record<string, unknown> {
   const out: Record<string, unknown> = {};
   for (const [field, key] of Object.entries(FIELD_KEYS) as [keyof AnalysisSettings, string][]) {
+    if (s[field] === undefined) continue;
     const parts = key.split(".");
     let o = out;
     for (const p of parts.slice(0, -1)) o = (o[p] ??= {}) as Record<string, unknown>;

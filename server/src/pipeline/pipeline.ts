@@ -16,7 +16,7 @@ import type { CompiledLoss } from "../semantics/family.js";
 import { deriveLossFunctions } from "../analysis/derive.js";
 import { makeIssue, type Issue } from "../issue.js";
 import type { LossFamily, LossFunctions } from "../loss-model.js";
-import { DEFAULT_SETTINGS, normaliseSettings, type AnalysisSettings } from "../settings.js";
+import { DEFAULT_SETTINGS, normaliseSettings, toClientShape, type AnalysisSettings } from "../settings.js";
 import {
   analyseStage, byPosition, compileStage, engineOptions, enrichFindings, isAnalysable, lossCacheKey, parseAndResolve,
   type DocumentAnalysis, type LossReport,
@@ -75,7 +75,7 @@ export interface PipelineOptions {
 
 /** Creates a pipeline with the given settings (missing ones take their defaults). */
 export function createPipeline(initial: Partial<AnalysisSettings> = {}, options: PipelineOptions = {}): Pipeline {
-  let settings: AnalysisSettings = normaliseSettings(toRaw(initial));
+  let settings: AnalysisSettings = normaliseSettings(toClientShape(initial));
   /** Engine results with the compiled loss they came from (both a function of the key and the settings). */
   const cache = new Map<string, { analysis: LossAnalysis; compiled: CompiledLoss }>();
   const memo: { text: string; doc: DocumentAnalysis; full: boolean }[] = [];
@@ -203,7 +203,7 @@ export function createPipeline(initial: Partial<AnalysisSettings> = {}, options:
       return settings;
     },
     configure(next, log) {
-      settings = normaliseSettings(toRaw(next), log, settings);
+      settings = normaliseSettings(toClientShape(next), log, settings);
       cache.clear();
       memo.length = 0;
       pinned.clear();
@@ -231,17 +231,6 @@ export function createPipeline(initial: Partial<AnalysisSettings> = {}, options:
       return full(text);
     },
     analyseAt,
-  };
-}
-
-/** The nested `propriety.*` shape `normaliseSettings` reads, from the flat settings object. */
-function toRaw(s: Partial<AnalysisSettings>): Record<string, unknown> {
-  return {
-    analysis: { gridResolution: s.gridResolution, deadlineMs: s.deadlineMs },
-    defaultThreshold: s.defaultThreshold,
-    maxAnalysedLosses: s.maxAnalysedLosses,
-    debounceMs: s.debounceMs,
-    format: { indent: s.indent },
   };
 }
 
