@@ -10,7 +10,10 @@ const entries = [
   { entryPoints: ["client/src/extension.ts"], outfile: "dist/extension.js", external: ["vscode"] },
   { entryPoints: ["server/src/lsp/main.ts"], outfile: "dist/server.js" },
   // playwright-core stays external: `report --png` loads it only when asked (it is not bundled).
-  { entryPoints: ["server/src/cli/main.ts"], outfile: "dist/cli.js", external: ["playwright-core"] },
+  // Run directly (`node dist/cli.js check FILE`), the bundle runs the command line like bin/propriety.js
+  // (it used to define `main` and exit 0 silently); required as a module, it only exports.
+  { entryPoints: ["server/src/cli/main.ts"], outfile: "dist/cli.js", external: ["playwright-core"],
+    footer: { js: "if (require.main === module) module.exports.main(process.argv.slice(2)).then((code) => { process.exitCode = code; });" } },
 ];
 const optional = [
   { entryPoints: ["client/media/viewer.ts"], outfile: "dist/viewer.js", platform: "browser", format: "iife", target: "es2022" },
