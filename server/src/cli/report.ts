@@ -8,7 +8,7 @@ import * as path from "node:path";
 import { randomBytes } from "node:crypto";
 import { parseArgs } from "node:util";
 import { renderReport } from "../products/report.js";
-import { loadDocuments, settingsFromArgs, SETTINGS_HELP, SETTINGS_OPTIONS, UsageError, type CliIo } from "./io.js";
+import { checkOutputPath, collectFiles, loadDocuments, settingsFromArgs, SETTINGS_HELP, SETTINGS_OPTIONS, UsageError, type CliIo } from "./io.js";
 import { VERSION } from "../version.js";
 
 /** Where the built page assets are looked for, and which Chromium to drive. */
@@ -27,10 +27,12 @@ export const CHROMIUM_ARGS = ["--headless", "--no-sandbox", "--disable-gpu", "--
 const PAGE_READY_TIMEOUT_MS = 60_000;
 
 export const REPORT_HELP = `report:
-  propriety report FILE|DIR… --out report.html [--png DIR] [--svg DIR] [--title TEXT]
+  propriety report FILE|DIR… --out report.html [--png DIR] [--svg DIR] [--title TEXT] [--force]
   Writes one self-contained HTML page (no network) with every loss's verdict, λ, modulus, bound
   exponents, inverse table and curves. --png/--svg also export each chart (needs Chromium:
   /usr/bin/chromium or $PROPRIETY_CHROMIUM, and the playwright-core package).
+  Every file is written atomically and never through a symbolic link; --out must not be an input.
+  --force  allow an --out name ending in .loss
 ${SETTINGS_HELP}`;
 
 function assetCandidates(env: ReportEnv): string[] {
@@ -64,6 +66,7 @@ export async function runReport(args: string[], io: CliIo, env: ReportEnv = {}):
       png: { type: "string" },
       svg: { type: "string" },
       title: { type: "string" },
+      force: { type: "boolean" },
       help: { type: "boolean", short: "h" },
       ...SETTINGS_OPTIONS,
     },
@@ -75,6 +78,7 @@ export async function runReport(args: string[], io: CliIo, env: ReportEnv = {}):
   }
   if (positionals.length === 0) throw new UsageError("report needs at least one FILE or DIR");
   if (!values.out) throw new UsageError("report needs --out FILE.html");
+  checkOutputPath(values.out, collectFiles(positionals, io), io, values.force === true);
   const docs = loadDocuments(positionals, io, settingsFromArgs(values));
   if (docs === null) return 2;
   const files = docs.map((d) => d.file);
@@ -93,7 +97,12 @@ export async function runReport(args: string[], io: CliIo, env: ReportEnv = {}):
     generatedAt: (env.now ?? (() => new Date()))().toISOString().replace(/\.\d+Z$/, "Z"),
     generator: `propriety ${VERSION}`,
   });
-  io.writeFile(values.out, html);
+  try {
+    io.writeFile(values.out, html);
+  } catch (err) {
+    io.stderr(`propriety: cannot write ${values.out}: ${err instanceof Error ? err.message : String(err)}\n`);
+    return 2;
+  }
   const losses = docs.reduce((n, d) => n + d.doc.losses.length, 0);
   io.stderr(`wrote ${values.out}: ${losses} loss${losses === 1 ? "" : "es"} from ${files.length} file${files.length === 1 ? "" : "s"}\n`);
   if (values.png || values.svg) {
@@ -121,7 +130,7 @@ interface PageLike {
   setContent(html: string, options?: { waitUntil?: "load" }): Promise<void>;
   waitForSelector(selector: string, options?: { timeout?: number }): Promise<unknown>;
   evaluate<T>(fn: () => T): Promise<T>;
-  locator(selector: string): { nth(i: number): { screenshot(options: { path: string }): Promise<unknown> } };
+  locator(selector: string): { nth(i: number): { screenshot(): Promise<Uint8Array> } };
   screenshot(options: { path: string; fullPage?: boolean }): Promise<unknown>;
 }
 
@@ -165,8 +174,8 @@ export async function exportCharts(html: string, dirs: { png?: string; svg?: str
       for (let k = 2; used.has(base); k++) base = safeName(`${path.basename(c.file, ".loss")}-${c.loss}-${c.chart}-${k}`);
       used.add(base);
       if (dirs.png) {
-        fs.mkdirSync(dirs.png, { recursive: true });
-        await page.locator("svg.chart").nth(i).screenshot({ path: path.join(dirs.png, `${base}.png`) });
+        // Taken into memory and written like every other output: atomically, never through a link.
+        io.writeFile(path.join(dirs.png, `${base}.png`), await page.locator("svg.chart").nth(i).screenshot());
       }
       if (dirs.svg) {
         // The exported file carries the page's styles so it renders the same on its own.
