@@ -21,7 +21,8 @@ export async function activate(context: vscode.ExtensionContext): Promise<void> 
   };
   const clientOptions: LanguageClientOptions = {
     documentSelector: [{ language: "loss" }],
-    initializationOptions: { settings: readSettings() },
+    // clientCommands: code lenses may run the extension's curve-viewer command (other editors get the server's own command).
+    initializationOptions: { settings: readSettings(), clientCommands: ["propriety.openCurveViewer"] },
     // Pushes `workspace/didChangeConfiguration` with the `propriety` section whenever it changes.
     synchronize: { configurationSection: "propriety" },
   };

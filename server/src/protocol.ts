@@ -91,10 +91,15 @@ export interface GenerateResult {
   message: string | null;
   /** Suggested file name for the output. */
   fileName: string | null;
+  /** The improper losses among those asked for, and whether each says `expect improper` (the editor's consent). */
+  improper?: { loss: string; expected: boolean }[];
 }
 
 /** LSP request: generated implementation code for one loss or all losses of a document. */
 export const GENERATE_REQUEST = "propriety/generate";
+
+/** LSP workspace/executeCommand: the loss summary of a loss (arguments: uri, loss name), shown with window/showMessage. */
+export const SHOW_LOSS_SUMMARY_COMMAND = "propriety.showLossSummary";
 
 /** Position of the cursor, as LSP sends it (0-based line, UTF-16 character). */
 export interface ProtocolPosition {

@@ -5,7 +5,7 @@
  */
 import { VERSION } from "../version.js";
 import {
-  CodeLensRefreshRequest, DidChangeConfigurationNotification, ResponseError, ErrorCodes, SemanticTokensBuilder,
+  CodeLensRefreshRequest, DidChangeConfigurationNotification, ResponseError, ErrorCodes, MessageType, SemanticTokensBuilder,
   TextDocumentSyncKind, TextDocuments, type ClientCapabilities, type Connection, type InitializeParams, type InitializeResult,
   type Position,
 } from "vscode-languageserver/node";
@@ -13,7 +13,7 @@ import { TextDocument } from "vscode-languageserver-textdocument";
 import type { Issue } from "../issue.js";
 import { isTarget, type GenerateOptions } from "../codegen/index.js";
 import {
-  ANALYSED_NOTIFICATION, CURVES_REQUEST, GENERATE_REQUEST, LOSS_SUMMARY_REQUEST, REPORT_REQUEST,
+  ANALYSED_NOTIFICATION, CURVES_REQUEST, GENERATE_REQUEST, LOSS_SUMMARY_REQUEST, REPORT_REQUEST, SHOW_LOSS_SUMMARY_COMMAND,
   type CurvesParams, type CurvesResult, type GenerateParams, type GenerateResult, type LossSummaryParams, type ReportParams, type ReportResult,
 } from "../protocol.js";
 import { createLanguageService, type LanguageService } from "../service/language-service.js";
@@ -33,6 +33,9 @@ export function toServiceSettings(raw: unknown, log: (message: string) => void =
   return normaliseSettings(raw, log);
 }
 
+/** The VS Code extension's own command (opens the curve viewer); lenses use it only for a client that declares it. */
+export const OPEN_VIEWER_COMMAND = "propriety.openCurveViewer";
+
 /** What the server needs from its host process (file access stays in main.ts). */
 export interface ServerHost {
   /** Text of the report page script and stylesheet (dist/report-page.js, dist/viewer.css), or null when not built. */
@@ -50,6 +53,14 @@ export function startServer(connection: Connection, host: ServerHost = {}): void
   let relatedSupport = false;
   let snippetSupport = false;
   let debounceMs = service.settings.debounceMs;
+  /**
+   * The command code lenses run. A client that declares the viewer command
+   * (initializationOptions.clientCommands, as the VS Code extension does) gets lenses that open the
+   * curve viewer; a client that names itself (clientInfo: Neovim, Helix, Emacs…) without declaring it
+   * gets the server's own command, which shows the loss summary; an anonymous client keeps the viewer
+   * command lenses have always carried.
+   */
+  let lensCommand = OPEN_VIEWER_COMMAND;
 
   const publish = (uri: string, version: number, issues: Issue[]) => {
     const doc = documents.get(uri);
@@ -108,8 +119,10 @@ export function startServer(connection: Connection, host: ServerHost = {}): void
     caps = params.capabilities;
     relatedSupport = caps.textDocument?.publishDiagnostics?.relatedInformation === true;
     snippetSupport = caps.textDocument?.completion?.completionItem?.snippetSupport === true;
-    const init = params.initializationOptions as { settings?: unknown } | null | undefined;
+    const init = params.initializationOptions as { settings?: unknown; clientCommands?: unknown } | null | undefined;
     if (init && typeof init === "object" && init.settings !== undefined) applySettings(init.settings, false);
+    const declaresViewer = !!init && typeof init === "object" && Array.isArray(init.clientCommands) && init.clientCommands.includes(OPEN_VIEWER_COMMAND);
+    lensCommand = declaresViewer || !params.clientInfo?.name ? OPEN_VIEWER_COMMAND : SHOW_LOSS_SUMMARY_COMMAND;
     const customs = [LOSS_SUMMARY_REQUEST, CURVES_REQUEST, GENERATE_REQUEST, REPORT_REQUEST];
     return {
       capabilities: {
@@ -127,6 +140,7 @@ export function startServer(connection: Connection, host: ServerHost = {}): void
         codeLensProvider: { resolveProvider: false },
         codeActionProvider: { codeActionKinds: ["quickfix", "refactor.rewrite"] },
         documentFormattingProvider: true,
+        executeCommandProvider: { commands: [SHOW_LOSS_SUMMARY_COMMAND] },
         experimental: { proprietyRequests: customs },
       },
       serverInfo: { name: "propriety", version: VERSION },
@@ -244,8 +258,22 @@ export function startServer(connection: Connection, host: ServerHost = {}): void
     if (!doc) return [];
     return service.codeLenses(doc.getText()).map((l) => ({
       range: toRange(doc, l.span),
-      command: { title: l.title, command: "propriety.openCurveViewer", arguments: [doc.uri, l.loss] },
+      command: { title: l.title, command: lensCommand, arguments: [doc.uri, l.loss] },
     }));
+  }));
+
+  connection.onExecuteCommand(guard("executeCommand", null, (p) => {
+    if (p.command !== SHOW_LOSS_SUMMARY_COMMAND) throw new ResponseError(ErrorCodes.InvalidParams, `unknown command '${p.command}'; the server provides ${SHOW_LOSS_SUMMARY_COMMAND}`);
+    const [uri, loss] = p.arguments ?? [];
+    const doc = typeof uri === "string" ? documents.get(uri) : undefined;
+    if (!doc) throw new ResponseError(ErrorCodes.InvalidParams, `${SHOW_LOSS_SUMMARY_COMMAND}: the document ${String(uri)} is not open`);
+    const text = doc.getText();
+    const lens = service.codeLenses(text).find((l) => l.loss === loss);
+    if (!lens) throw new ResponseError(ErrorCodes.InvalidParams, `${SHOW_LOSS_SUMMARY_COMMAND}: no loss named '${String(loss)}' in ${doc.uri}`);
+    const summary = service.lossSummary(text, lens.span.start);
+    const message = summary ? `${summary.text}${summary.summary && !summary.text.includes(summary.summary) ? ` — ${summary.summary}` : ""}` : `${lens.loss}: ${lens.title}`;
+    void connection.sendNotification("window/showMessage", { type: MessageType.Info, message });
+    return summary;
   }));
 
   connection.onCodeAction(guard("codeAction", [], (p) => {
@@ -285,7 +313,11 @@ export function startServer(connection: Connection, host: ServerHost = {}): void
     if (p.loss) options.loss = p.loss;
     if (p.allowImproper) options.allowImproper = true;
     const r = service.generate(doc.getText(), options);
-    return r.ok ? { ok: true, code: r.code, message: null, fileName: r.fileName } : { ok: false, code: null, message: r.message, fileName: null };
+    // The improper losses asked for, so the editor can ask for consent (a loss that says `expect improper` has given it).
+    const improper = service.analyseFull(doc.getText()).losses
+      .filter((l) => l.analysis?.verdict === "improper" && (p.loss === undefined || l.info.name === p.loss))
+      .map((l) => ({ loss: l.info.name, expected: l.info.expects.some((e) => e.claim?.kind === "improper") }));
+    return r.ok ? { ok: true, code: r.code, message: null, fileName: r.fileName, improper } : { ok: false, code: null, message: r.message, fileName: null, improper };
   }));
 
   connection.onRequest(REPORT_REQUEST, guard<ReportParams, ReportResult | null>("report", null, (p) => {
