@@ -3,6 +3,7 @@
  * curvature and surrogate-regret bounds for proper losses, and the `expect` claims.
  * Pure: takes a `LossFamily`, returns figures and clause-attributed findings; never throws.
  */
+import { ISSUE_CODES, type IssueCode, type Severity } from "../issues.js";
 import { DEFAULT_SETTINGS, settingSpec } from "../settings.js";
 import { analyseCurvature, type CurvatureResult } from "./curvature.js";
 import type { Finding, LossFamily, LossFunctions, Note } from "../loss-model.js";
@@ -76,15 +77,31 @@ function presentedFindings(family: LossFamily, prop: PropernessResult): Finding[
   // A loss declared `expect improper` is used knowingly (a focal loss with its recovery map, say): the
   // evidence of impropriety is still shown, as warnings, so a CI gate on errors passes.
   const acknowledged = prop.verdict === "improper" && family.claims.some((c) => c.kind === "improper");
-  return prop.findings.map((f) => {
+  return withImproperError(prop).map((f) => {
     let out = f;
     // The range sweep belongs with the verdict the user reads first ("improper for g > 0; proper at g = 0").
     if (f.code === "improper" && prop.paramReport) out = { ...out, message: `${out.message} Over the declared ranges: ${prop.paramReport}.`, data: { ...out.data, paramReport: prop.paramReport } };
-    if (acknowledged && IMPROPERNESS_EVIDENCE.has(f.code) && (f.severity ?? "error") === "error") {
+    if (acknowledged && IMPROPERNESS_EVIDENCE.has(f.code) && severityOf(f) === "error") {
       out = { ...out, severity: "warning", message: `${out.message} (Expected: the loss says \`expect improper\`.)` };
     }
     return out;
   });
+}
+
+function severityOf(f: Finding): Severity {
+  return f.severity ?? ISSUE_CODES[f.code as IssueCode]?.severity ?? "error";
+}
+
+/**
+ * An improper verdict is an error whatever the definition form (a CI gate on errors must catch it): when
+ * the evidence behind it is only warnings (a margin loss without an invertible link, say), an `improper`
+ * error on the loss says so and points at them.
+ */
+function withImproperError(prop: PropernessResult): Finding[] {
+  if (prop.verdict !== "improper" || prop.findings.some((f) => severityOf(f) === "error")) return prop.findings;
+  const evidence = prop.findings.filter((f) => f.code !== "posterior-recovery").map((f) => `\`${f.code}\``);
+  const because = evidence.length > 0 ? ` (see ${evidence.join(", ")})` : "";
+  return [{ code: "improper", clause: "loss", message: `Not proper: no prediction rule recovers η from this loss${because}. A loss used knowingly says \`expect improper\`.` }, ...prop.findings];
 }
 
 /** Both routes bound the decision regret, so the guaranteed exponent is the better of the two. */
