@@ -8,6 +8,7 @@ import { describe, expect, it } from "vitest";
 import {
   CODE_STYLE,
   escapeMarkup,
+  markdownPlainText,
   FIGURE_STYLE,
   fmt,
   formatExponent,
@@ -157,5 +158,22 @@ describe("bound exponents 1/p", () => {
 describe("markup", () => {
   it("escapes the five XML specials", () => {
     expect(escapeMarkup(`<a href="x">'&'</a>`)).toBe("&lt;a href=&quot;x&quot;&gt;&#39;&amp;&#39;&lt;/a&gt;");
+  });
+});
+
+describe("markdownPlainText (doc comments shown on hover as plain text)", () => {
+  it.each([
+    ["plain words stay as they are", "Cost of a false alarm (in euros).", "Cost of a false alarm (in euros)."],
+    ["a link cannot form", "[click](command:propriety.x)", "\\[click\\](command:propriety.x)"],
+    ["an image cannot form", "![x](http://example.invalid/a.png)", "!\\[x\\](http://example.invalid/a.png)"],
+    ["HTML is text", "<img src=x onerror=alert(1)>", "\\<img src=x onerror=alert(1)\\>"],
+    ["emphasis and code marks are text", "*a* _b_ `c`", "\\*a\\* \\_b\\_ \\`c\\`"],
+    ["a heading cannot start a line", "# Title", "\\# Title"],
+    ["a list cannot start a line", "- item", "\\- item"],
+    ["an ordered list cannot start a line", "1. first", "1\\. first"],
+    ["a quote cannot start a line", "> quoted", "\\> quoted"],
+    ["each line stays a line (hard breaks), every line terminator", "a\nb\r\nc\u2028d", "a  \nb  \nc  \nd"],
+  ])("%s", (_n, input, expected) => {
+    expect(markdownPlainText(input)).toBe(expected);
   });
 });

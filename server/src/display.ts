@@ -10,6 +10,20 @@ export function escapeMarkup(s: string): string {
   return s.replace(/[&<>"']/g, (c) => ({ "&": "&amp;", "<": "&lt;", ">": "&gt;", '"': "&quot;", "'": "&#39;" })[c]!);
 }
 
+/**
+ * User text (a doc comment) shown as plain text inside Markdown: the characters that start links,
+ * images, HTML, emphasis, code, tables or math are backslash-escaped anywhere, and a line that would
+ * start a heading, quote, list or rule gets its first character escaped (CommonMark 0.31, §2.4: any
+ * ASCII punctuation may be escaped). Each source line stays a line (a hard break). Other punctuation is
+ * left alone, so editors that show the raw Markdown stay readable.
+ */
+export function markdownPlainText(s: string): string {
+  return s
+    .split(/\r\n|\r|\n|\u2028|\u2029/)
+    .map((line) => line.replace(/[\\`*_[\]<>&|~$]/g, (c) => `\\${c}`).replace(/^(\s*)([#+\-=])/, "$1\\$2").replace(/^(\s*\d+)([.)])/, "$1\\$2"))
+    .join("  \n");
+}
+
 // ---------------------------------------------------------------------------------------------------
 // Verdicts
 

@@ -2,7 +2,7 @@
  * Hover texts (Markdown) for every name the notation knows: losses (the engine's figures), clause names
  * (their derived formulas), parameters, helpers, built-ins, constants and clause variables.
  */
-import { formatNumber, formatPowerLaw, NOT_AVAILABLE, PROSE_STYLE, verdictText } from "../display.js";
+import { formatNumber, formatPowerLaw, markdownPlainText, NOT_AVAILABLE, PROSE_STYLE, verdictText } from "../display.js";
 import type { Span } from "../issue.js";
 import { BUILTINS, CONSTANTS } from "../semantics/builtins.js";
 import { CLAUSE_DOCS, describeForm, type ClauseName, type LossInfo, type ParamInfo, type SemanticModel } from "../semantics/model.js";
@@ -37,7 +37,7 @@ export function describeLoss(model: SemanticModel, report: LossReport): string {
   const info = report.info;
   const lines: string[] = [];
   lines.push(`**loss ${code(info.name)}**${info.form ? ` — ${describeForm(info.form)}` : ""}`);
-  if (info.decl.doc) lines.push("", info.decl.doc);
+  if (info.decl.doc) lines.push("", markdownPlainText(info.decl.doc));
   const a = report.analysis;
   if (!a) {
     lines.push("", info.hasErrors || !report.compiled
@@ -147,7 +147,7 @@ function describeParam(info: ParamInfo, where: string, model: SemanticModel): st
   const d = info.decl;
   const range = info.lo !== null || info.hi !== null ? ` in [${figure(info.lo)}, ${figure(info.hi)}]` : "";
   const lines = [`**${where} parameter ${code(d.name.name)}**`, "", `default ${figure(info.value)}${range || " (no declared range)"}`];
-  if (d.doc) lines.push("", d.doc);
+  if (d.doc) lines.push("", markdownPlainText(d.doc));
   if (d.global) {
     const users = model.losses.filter((l) => l.usedGlobals.includes(d.name.name)).map((l) => code(l.name));
     if (users.length > 0) lines.push("", `used by ${users.join(", ")}`);
@@ -178,7 +178,7 @@ export function computeHover(doc: DocumentAnalysis, offset: number): HoverResult
         const d = model.defs.get(t.name)?.decl;
         if (!d) return null;
         const sig = `def ${d.name.name}(${d.params.map((p) => p.name).join(", ")}) = ${d.body ? printExpr(d.body) : "…"}`;
-        return { markdown: [`**helper ${code(d.name.name)}**`, "", code(sig), ...(d.doc ? ["", d.doc] : [])].join("\n"), span: ref.span };
+        return { markdown: [`**helper ${code(d.name.name)}**`, "", code(sig), ...(d.doc ? ["", markdownPlainText(d.doc)] : [])].join("\n"), span: ref.span };
       }
       case "def-param":
         return { markdown: `parameter ${code(t.name)} of the helper ${code(t.def)}`, span: ref.span };
