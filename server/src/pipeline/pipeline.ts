@@ -115,15 +115,17 @@ export function createPipeline(initial: Partial<AnalysisSettings> = {}, options:
 
   /** Compiles and analyses one loss, through the cache; returns the issue of a failing stage. */
   const analyseLoss = (doc: DocumentAnalysis, r: LossReport): Issue | null => {
-    const compiled = compileStage(doc.model, r, settings);
-    if (!compiled.ok) return compiled.issue;
-    if (!r.compiled) return null;
     const key = lossCacheKey(doc.text, doc.model, r.info);
     const hit = cache.get(key);
     if (hit) {
+      // Compiled and analysed before (by the incremental pass, or for an earlier text): no stage re-runs.
+      r.compiled = hit.compiled;
       r.analysis = hit.analysis;
       return null;
     }
+    const compiled = compileStage(doc.model, r, settings);
+    if (!compiled.ok) return compiled.issue;
+    if (!r.compiled) return null;
     const outcome = analyseStage(r, engine());
     if ("issue" in outcome) return outcome.issue;
     r.analysis = outcome.analysis;
