@@ -128,6 +128,12 @@ export interface PyTarget {
   helperImports?: Record<string, string[]>;
   /** Emit `<name>_grad` functions (closed-form gradients in pred). */
   gradients: boolean;
+  /** The loss functions' parameter list (default `pred, target, weight=None, reduction="mean"`), e.g. with annotations. */
+  signature?: string;
+  /** The module's `_reduce` source (default REDUCE). */
+  reduce?: string[];
+  /** Print the clamping bounds as number literals instead of the module constant EPS (TorchScript cannot read module-level floats). */
+  literalEps?: boolean;
 }
 
 const REDUCE = [
@@ -160,9 +166,11 @@ const REDUCE_GRAD = [
 export function pythonNames(losses: LoweredLoss[], sanitise: (n: string) => string): { fn: string; grad: string; recover: string }[] {
   const used = new Set<string>();
   return losses.map((l) => {
-    let base = sanitise(l.name);
-    for (let k = 2; used.has(base); k++) base = `${sanitise(l.name)}_${k}`;
-    const names = { fn: base, grad: `${base}_grad`, recover: `${base}_recover_posterior` };
+    const make = (base: string) => ({ fn: base, grad: `${base}_grad`, recover: `${base}_recover_posterior` });
+    // All three names must be free: a loss `a_grad` before a loss `a` must not give `a` the gradient's name.
+    const free = (n: { fn: string; grad: string; recover: string }) => !used.has(n.fn) && !used.has(n.grad) && !used.has(n.recover);
+    let names = make(sanitise(l.name));
+    for (let k = 2; !free(names); k++) names = make(`${sanitise(l.name)}_${k}`);
     used.add(names.fn).add(names.grad).add(names.recover);
     return names;
   });
@@ -173,14 +181,15 @@ export function emitPythonModule(input: EmitInput, t: PyTarget, sanitise: (n: st
   const names = pythonNames(input.losses, sanitise);
   const used = new Set<string>();
   const bodies: string[][] = [];
-  const clampBound = (b: number | null, which: "lo" | "hi"): string | null => (b === null ? null : which === "lo" ? "EPS" : "1.0 - EPS");
+  const eps = t.literalEps ? pyNumber(CLAMP_EPS_VALUE) : "EPS";
+  const clampBound = (b: number | null, which: "lo" | "hi"): string | null => (b === null ? null : which === "lo" ? eps : `1.0 - ${eps}`);
   input.losses.forEach((loss, i) => {
     const n = names[i]!;
     const v = loss.variable;
     const out: string[] = [];
     const header = lossHeaderLinesFor(loss, input.source, n.fn, loss.recover ? n.recover : null);
     out.push(...pyComment(header));
-    out.push(`def ${n.fn}(pred, target, weight=None, reduction="mean"):`);
+    out.push(`def ${n.fn}(${t.signature ?? 'pred, target, weight=None, reduction="mean"'}):`);
     out.push(...lossDocstring(loss, loss.clamp !== null));
     const arr = t.asArray("pred");
     out.push(`    ${v} = ${loss.clamp ? t.clamp(arr, clampBound(loss.clamp.lo, "lo"), clampBound(loss.clamp.hi, "hi")) : arr}`);
@@ -238,7 +247,7 @@ export function emitPythonModule(input: EmitInput, t: PyTarget, sanitise: (n: st
     lines.push(`EPS = ${pyNumber(CLAMP_EPS_VALUE)}`, "");
   }
   for (const h of Object.keys(t.helperSources)) if (used.has(h)) lines.push("", ...t.helperSources[h]!, "");
-  lines.push("", ...REDUCE, "");
+  lines.push("", ...(t.reduce ?? REDUCE), "");
   if (t.gradients) lines.push("", ...REDUCE_GRAD, "");
   for (const b of bodies) lines.push("", ...b, "");
   // One trailing newline, no blank-line runs longer than two (PEP 8).

@@ -202,8 +202,9 @@ export function emitTs(input: EmitInput): string {
   const taken = new Set<string>();
   const bodies: string[][] = [];
   for (const loss of input.losses) {
+    // All three names must be free: a loss `aGrad` before a loss `a` must not give `a` the gradient's name.
     let fn = tsFunctionName(loss.name);
-    for (let k = 2; taken.has(fn); k++) fn = `${tsFunctionName(loss.name)}_${k}`;
+    for (let k = 2; taken.has(fn) || taken.has(`${fn}Grad`) || taken.has(`${fn}RecoverPosterior`); k++) fn = `${tsFunctionName(loss.name)}_${k}`;
     const grad = `${fn}Grad`;
     const recover = `${fn}RecoverPosterior`;
     taken.add(fn).add(grad).add(recover);

@@ -9,7 +9,7 @@ import type { EmitInput } from "./emit-python-common.js";
 import { emitTorch } from "./emit-torch.js";
 import { emitTs } from "./emit-ts.js";
 import { lowerLoss, type InputScale, type LoweredLoss } from "./model.js";
-import { sanitiseName } from "./names.js";
+import { commentSafe, sanitiseName } from "./names.js";
 
 export const TARGETS = ["torch", "jax", "numpy", "ts"] as const;
 export type Target = (typeof TARGETS)[number];
@@ -79,7 +79,13 @@ export function generate(doc: DocumentAnalysis, options: GenerateOptions): Gener
     if (losses.length === 0) {
       return { ok: false, message: skipped.map((s) => (reports.length === 1 ? s.reason : `\`${s.name}\`: ${s.reason}`)).join("\n") };
     }
-    const input: EmitInput = { source, input: options.input ?? "prob", losses, skipped };
+    // The file name and the reasons are printed in comments: no line terminator may survive in them.
+    const input: EmitInput = {
+      source: commentSafe(source),
+      input: options.input ?? "prob",
+      losses,
+      skipped: skipped.map((s) => ({ name: s.name, reason: commentSafe(s.reason) })),
+    };
     const code = emit(options.target, input);
     return { ok: true, code, fileName: outputName(options, source) };
   } catch (err) {

@@ -19,13 +19,15 @@ const PYTHON_BUILTINS = new Set([
   "abs", "all", "any", "bool", "dict", "dir", "divmod", "enumerate", "eval", "exec", "exp", "filter", "float", "format",
   "hash", "id", "input", "int", "isinstance", "iter", "len", "list", "log", "map", "max", "min", "next", "object",
   "open", "pow", "print", "range", "repr", "round", "set", "slice", "sorted", "str", "sum", "super", "tuple", "type",
-  "vars", "zip",
+  "vars", "zip", "__import__", "compile", "globals", "locals", "getattr", "setattr", "callable", "complex", "bytes",
 ]);
 
 /** Names the Python emitters define or import at module level, or use as parameters. */
 const PYTHON_RESERVED = new Set([
   "np", "numpy", "torch", "F", "jax", "jnp", "math", "statistics", "EPS", "pred", "target", "weight", "reduction",
-  "loss", "grad", "q", "v", "y",
+  "loss", "grad", "q", "v", "y", "raw", "inv", "u",
+  // The module's own helpers (emit-python-common.ts, emit-numpy.ts): a loss of that name would replace them.
+  "_reduce", "_reduce_grad", "_sigmoid", "_erf", "_erfc", "_erfcx", "_normcdf", "_lognormcdf", "_probit", "_as_float", "_eps",
 ]);
 
 /** ECMAScript reserved words, strict-mode reserved words and TypeScript's contextual type keywords. */
@@ -48,7 +50,9 @@ const TS_GLOBALS = new Set([
 /** Names the TypeScript emitter defines or uses as parameters. */
 const TS_RESERVED = new Set([
   "EPS", "pred", "target", "options", "weight", "reduction", "LossOptions", "Reduction", "softplus", "sigmoid",
-  "logaddexp", "erf", "erfc", "normcdf", "probit", "reduce", "q", "v", "y", "out", "n", "i",
+  "logaddexp", "erf", "erfc", "normcdf", "probit", "reduce", "q", "v", "y", "out", "n", "i", "raw",
+  // The module's own helpers (emit-ts.ts): a loss of that name would be a duplicate declaration.
+  "checkLengths", "scaleGrad", "logErfc", "lognormcdf",
 ]);
 
 /** Turns arbitrary text into `[A-Za-z_][A-Za-z0-9_]*` (the `.loss` grammar already does; this is defence in depth). */
@@ -58,9 +62,13 @@ function toIdentifierChars(raw: string): string {
   return s;
 }
 
+/** `__name__`-style names (a trailing `_` added by sanitiseName takes a name out of this shape). */
+const DUNDER = /^__[A-Za-z0-9]+(?:_[A-Za-z0-9]+)*__$/;
+
 /** True when `name` would clash with a keyword, a built-in or a name of the generated module. */
 export function isReservedName(name: string, lang: NameLanguage): boolean {
-  if (lang === "python") return PYTHON_KEYWORDS.has(name) || PYTHON_BUILTINS.has(name) || PYTHON_RESERVED.has(name);
+  // Dunder names (`__import__`, `__name__`, …) are Python's own; a module must not define them as losses.
+  if (lang === "python") return PYTHON_KEYWORDS.has(name) || PYTHON_BUILTINS.has(name) || PYTHON_RESERVED.has(name) || DUNDER.test(name);
   return TS_KEYWORDS.has(name) || TS_GLOBALS.has(name) || TS_RESERVED.has(name);
 }
 
@@ -99,4 +107,14 @@ export function uniqueNames(raw: string[], make: (name: string) => string, lang:
     used.add(s);
     return s;
   });
+}
+
+/**
+ * Text that is safe inside a one-line comment or string of the generated code: every line terminator of
+ * Python or ECMAScript (\n, \r, U+2028, U+2029; Python's str.splitlines also breaks at \v, \f, \x1c–\x1e
+ * and \x85) and every other control character becomes a visible `\uXXXX` escape, so a file name cannot
+ * end a comment and inject code.
+ */
+export function commentSafe(text: string): string {
+  return text.replace(/[\u0000-\u001f\u007f-\u009f\u2028\u2029]/g, (c) => `\\u${c.charCodeAt(0).toString(16).padStart(4, "0")}`);
 }
