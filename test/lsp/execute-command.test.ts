@@ -61,7 +61,7 @@ describe("workspace/executeCommand propriety.showLossSummary", () => {
     await expect.poll(() => s.messages.length).toBe(1);
     expect(s.messages[0]!.type).toBe(3); // MessageType.Info
     // λ = inf w = 2: the Brier score's Bayes risk is H(η) = η(1 − η), so w = −H'' = 2 (Reid & Williamson 2010, weight representation; worked by hand).
-    expect(s.messages[0]!.message).toMatch(/^brier: strictly proper · λ 2 · exponents /);
+    expect(s.messages[0]!.message).toMatch(/^brier: strictly proper · λ = 2 · δ ≈ 0\.25·ε² · exponents ½ \/ ½$/);
 
     const improper = await s.conn.sendRequest<{ verdict: string }>("workspace/executeCommand", lenses[1]!.command);
     expect(improper.verdict).toBe("improper");

@@ -271,7 +271,8 @@ export function startServer(connection: Connection, host: ServerHost = {}): void
     const lens = service.codeLenses(text).find((l) => l.loss === loss);
     if (!lens) throw new ResponseError(ErrorCodes.InvalidParams, `${SHOW_LOSS_SUMMARY_COMMAND}: no loss named '${String(loss)}' in ${doc.uri}`);
     const summary = service.lossSummary(text, lens.span.start);
-    const message = summary ? `${summary.text}${summary.summary && !summary.text.includes(summary.summary) ? ` — ${summary.summary}` : ""}` : `${lens.loss}: ${lens.title}`;
+    // The engine's one-line summary (what the lens title shows in VS Code), or why there is none.
+    const message = summary?.summary ? `${summary.loss}: ${summary.summary}` : summary ? summary.text : `${lens.loss}: ${lens.title}`;
     void connection.sendNotification("window/showMessage", { type: MessageType.Info, message });
     return summary;
   }));
