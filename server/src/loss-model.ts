@@ -173,6 +173,7 @@ export type NoteKind =
   | "numeric-derivative" // a derivative is a central difference (no closed form was given)
   | "link" // how the link was obtained (canonical, implied by a margin function)
   | "bayes-on-diagonal" // H(η) = L(η, η) because the loss was found proper
+  | "verdict-evidence" // what a proper verdict rests on: the sampled search's resolution, and the derivative identities when checked
   // Curvature (curvature.ts).
   | "numeric-weight" // w from second differences of H
   | "lambda-cross-check" // λ taken from second differences of H instead of the supplied weight

@@ -19,6 +19,7 @@ const ALL_KINDS: readonly NoteKind[] = [
   "numeric-derivative",
   "link",
   "bayes-on-diagonal",
+  "verdict-evidence",
   "numeric-weight",
   "lambda-cross-check",
   "strong-properness",

@@ -10,7 +10,10 @@ import { diffInUnit } from "./numeric/differences.js";
 import { safeCall } from "./margin.js";
 import { bayesMismatchFinding, bayesNotConcaveFinding, weightNegativeFinding, type BayesMismatch } from "./messages.js";
 
-/** Relative difference between a declared Bayes risk and the loss's own that is reported (numeric H' noise is ~1e-9). */
+/**
+ * Relative difference between a declared Bayes risk and the loss's own that is reported (numeric H' noise
+ * is ~1e-9), relative to the loss's scale (the largest |H|, |l1|, |l0| at the check points) plus the value.
+ */
 export const BAYES_MISMATCH_TOL = 1e-6;
 /** Relative tolerance on second differences of a Bayes risk when testing concavity (rounding of three values). */
 export const CONCAVITY_TOL = 1e-9;
@@ -55,11 +58,17 @@ export function checkDeclaredBayes(spec: LossSpec, fns: LossFunctions): Finding 
   let worst = 0;
   let ev: BayesMismatch | null = null;
   const pts = linspace(0.02, 0.98, DECLARED_BAYES_POINTS);
+  // The loss's own scale replaces an absolute floor of 1, so a loss and its multiples get the same answer.
+  let scale = 0;
+  for (const q of pts) {
+    for (const v of [safeCall(H, q), safeCall(fns.l1, q), safeCall(fns.l0, q)]) if (Number.isFinite(v)) scale = Math.max(scale, Math.abs(v));
+  }
+  const floor = Math.max(scale, Number.MIN_VALUE);
   for (const q of pts) {
     const declared = safeCall(H, q);
     const actual = fns.bayes(q);
     if (!Number.isFinite(declared) || !Number.isFinite(actual)) continue;
-    const d = Math.abs(declared - actual) / (1 + Math.abs(actual));
+    const d = Math.abs(declared - actual) / (floor + Math.abs(actual));
     if (d > BAYES_MISMATCH_TOL && d > worst) {
       worst = d;
       ev = { against: "infimum", q, declared, derived: actual };
@@ -72,7 +81,7 @@ export function checkDeclaredBayes(spec: LossSpec, fns: LossFunctions): Finding 
       const l0 = safeCall(fns.l0, q);
       for (const [name, savage, given] of [["l1", s1, l1], ["l0", s0, l0]] as const) {
         if (!Number.isFinite(savage) || !Number.isFinite(given)) continue;
-        const e = Math.abs(savage - given) / (1 + Math.abs(given));
+        const e = Math.abs(savage - given) / (floor + Math.abs(given));
         if (e > BAYES_MISMATCH_TOL && e > worst) {
           worst = e;
           ev = { against: "savage", q, partial: name, savage, given };

@@ -32,8 +32,9 @@ export interface DeriveResult {
 
 /**
  * A numerically minimised Bayes risk is accepted over L(η,η) only when it is lower by more than this
- * (relative to 1 + |L|): below it the difference is rounding in the minimiser, and keeping L(η,η) gives
- * exact values for proper losses.
+ * (relative to |L(η,η)| + |L(η,½)|, both on the loss's own scale, so a multiple of a loss gets the same
+ * decision): below it the difference is rounding in the minimiser, and keeping L(η,η) gives exact values
+ * for proper losses.
  */
 export const BAYES_ACCEPT_TOL = 1e-9;
 /** Grid of the numeric infimum over q (plus golden refinement of the best cells). */
@@ -62,7 +63,9 @@ export function numericBayes(risk: (eta: number, q: number) => number): RealFn {
     const diag = risk(eta, eta);
     const m = globalMin((q) => risk(eta, q), 0, 1, BAYES_MIN_GRID, 3);
     if (!Number.isFinite(diag)) return m.fx;
-    return m.fx < diag - BAYES_ACCEPT_TOL * (1 + Math.abs(diag)) ? m.fx : diag;
+    const half = risk(eta, 0.5);
+    const scale = Math.abs(diag) + (Number.isFinite(half) ? Math.abs(half) : 0);
+    return m.fx < diag - BAYES_ACCEPT_TOL * scale ? m.fx : diag;
   });
 }
 

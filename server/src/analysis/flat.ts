@@ -43,25 +43,6 @@ function exactWeightPositive(fns: LossFunctions, a: number, b: number): boolean 
 /** Bisection steps refining each end of an affine interval (60 halvings of a grid cell reach rounding). */
 export const FLAT_END_BISECTIONS = 60;
 
-/** The loss's scale on [0.01, 0.99]: the largest |L(q, q)| and the largest variation of l1 and l0 from q = ½. */
-function lossScale(t: Table): number {
-  let scale = 0;
-  const mid = t.qs.findIndex((q) => q >= 0.5);
-  for (let j = 0; j < t.qs.length; j++) {
-    const q = t.qs[j]!;
-    if (q < 0.01 || q > 0.99) continue;
-    const d = tableRisk(t, q, j);
-    if (Number.isFinite(d)) scale = Math.max(scale, Math.abs(d));
-    if (mid >= 0) {
-      const s1 = Math.abs(t.l1[j]! - t.l1[mid]!);
-      const s0 = Math.abs(t.l0[j]! - t.l0[mid]!);
-      if (Number.isFinite(s1)) scale = Math.max(scale, s1);
-      if (Number.isFinite(s0)) scale = Math.max(scale, s0);
-    }
-  }
-  return scale;
-}
-
 /** For each grid cell: mean weight 2R/(b−a)² within `tol` and both partial losses constant to `varTol`. */
 function flatCells(t: Table, tol: number, varTol: number): boolean[] {
   const cellFlat: boolean[] = [];
@@ -118,7 +99,7 @@ function snapEnd(x: number): number {
  */
 export function findFlatIntervals(fns: LossFunctions, t: Table): FlatRun[] {
   const n = t.qs.length;
-  const scale = lossScale(t);
+  const scale = t.scale;
   const tol = FLAT_WEIGHT_TOL * scale;
   const varTol = t.flatTol * Math.max(scale, 1e-300);
   const regret = (eta: number, q: number) => fns.risk(eta, q) - fns.risk(eta, eta);

@@ -14,15 +14,15 @@ import type { Finding, LossFamily, LossFunctions } from "../loss-model.js";
 import { internalError } from "./derive.js";
 import { computeRecovery, minimiseRisk, RECOVERY_ETAS, type RecoveryMap } from "./recovery.js";
 import { checkCompositeConvexity } from "./composite.js";
-import { analyseSpec, type InstanceResult, type PropernessVerdict } from "./verdict.js";
+import { analyseSpec, type InstanceResult, type PropernessVerdict, type SamplingEvidence } from "./verdict.js";
 import { analyseRanges, defaultsOf } from "./ranges.js";
-import { minimiserTimedOutFinding, posteriorRecoveryFinding, type Counterexample } from "./messages.js";
+import { minimiserTimedOutFinding, posteriorRecoveryFinding, samplingEvidenceNote, type Counterexample } from "./messages.js";
 import { deadlineAfter, type Clock } from "./budget.js";
 
 /** Re-exported so callers of `analyseProperness` get the types of its result from one module. */
 export type { RecoveryMap } from "./recovery.js";
 export type { Counterexample } from "./messages.js";
-export type { PropernessVerdict } from "./verdict.js";
+export type { PropernessVerdict, SamplingEvidence } from "./verdict.js";
 export { evaluateClaims, type ClaimExtras } from "./claims.js";
 
 /** The outcome of the properness analysis of a loss family (verdict at the defaults). */
@@ -41,6 +41,8 @@ export interface PropernessResult {
   paramReport?: string;
   /** The derived model at the defaults. */
   fns: LossFunctions | null;
+  /** When no counterexample was found: the resolution of the search and whether the derivative identities backed it. */
+  evidence?: SamplingEvidence;
 }
 
 /** Options of `analyseProperness`. */
@@ -72,9 +74,11 @@ export const RECOVERY_TOL = 1e-6;
 export const RECOVERY_MOVED = 1e-6;
 
 /** For a loss found proper the Bayes risk is L(η, η); this replaces the per-point minimisation, which callers evaluating H densely would pay for. */
-function withBayesOnDiagonal(fns: LossFunctions): LossFunctions {
+function withBayesOnDiagonal(fns: LossFunctions, evidence: SamplingEvidence | undefined): LossFunctions {
   const risk = fns.risk;
-  return { ...fns, bayes: (eta: number) => risk(eta, eta), notes: [...fns.notes, { kind: "bayes-on-diagonal", text: "H(η) = L(η, η), since the loss was found proper." }] };
+  const notes = [...fns.notes, { kind: "bayes-on-diagonal" as const, text: "H(η) = L(η, η), since the loss was found proper." }];
+  if (evidence) notes.push({ kind: "verdict-evidence", text: samplingEvidenceNote(evidence.gridPoints, evidence.identity) });
+  return { ...fns, bayes: (eta: number) => risk(eta, eta), notes };
 }
 
 /** The minimiser curve q*(η) of an improper loss and, when q* is monotone, the posterior-recovery map with its finding. */
@@ -112,9 +116,10 @@ export function analyseProperness(family: LossFamily, options: PropernessOptions
       findings: core.findings,
       fns: core.fns,
     };
+    if (core.evidence) result.evidence = core.evidence;
     let fns = core.fns;
     if (fns && (core.verdict === "proper" || core.verdict === "strictly-proper")) {
-      fns = withBayesOnDiagonal(fns);
+      fns = withBayesOnDiagonal(fns, core.evidence);
       result.fns = fns;
     }
     if (fns && fns.link && spec.form !== "margin") {

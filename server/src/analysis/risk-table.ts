@@ -10,7 +10,9 @@ import type { RiskTable } from "./recovery.js";
 import { safeCall } from "./margin.js";
 
 /**
- * Relative tolerance of a risk gap L(η,η) − L(η,q), scaled by 1 + |η·l1(η)| + |(1−η)·l0(η)|. Risks are
+ * Relative tolerance of a risk gap L(η,η) − L(η,q), scaled by S + |η·l1(η)| + |(1−η)·l0(η)| where S is
+ * the loss's own scale (`tableScale`; properness is invariant under scaling the loss, so the tolerance
+ * must scale with it — an absolute floor of 1 called a loss ×1e-9 proper whatever its shape). Risks are
  * sums of two closure values, and derived forms (tabulated integrals, bisection links) are accurate to
  * ~1e-11 relative, so 1e-9 is two orders above noise and still catches gaps of 1e-8 on O(1) losses.
  */
@@ -31,6 +33,36 @@ export interface Table extends RiskTable {
   tol: number;
   /** Relative variation tolerance for flat intervals. */
   flatTol: number;
+  /** The loss's own scale on the grid (`tableScale`): every absolute floor of a sign or equality decision is a multiple of it. */
+  scale: number;
+}
+
+/** The scale is read on [SCALE_EDGE, 1 − SCALE_EDGE], away from endpoint singularities (log loss is infinite at 0 and 1). */
+export const SCALE_EDGE = 0.01;
+
+/**
+ * The loss's own scale on the grid: the largest |L(q, q)| and the largest variation of l1 and l0 from
+ * q = ½, over grid points in [SCALE_EDGE, 1 − SCALE_EDGE]. It scales with the loss (L ↦ cL gives cS), so
+ * tolerances that are multiples of it decide the same way for every multiple of a loss, as properness does
+ * (Reid & Williamson 2010, "Composite Binary Losses", JMLR 11, §3: L and cL, c > 0, have the same minimisers).
+ * 0 only for a loss that is 0 on the whole range.
+ */
+export function tableScale(qs: number[], l1: number[], l0: number[]): number {
+  let scale = 0;
+  const mid = qs.findIndex((q) => q >= 0.5);
+  for (let j = 0; j < qs.length; j++) {
+    const q = qs[j]!;
+    if (q < SCALE_EDGE || q > 1 - SCALE_EDGE) continue;
+    const d = q * l1[j]! + (1 - q) * l0[j]!;
+    if (Number.isFinite(d)) scale = Math.max(scale, Math.abs(d));
+    if (mid >= 0) {
+      const s1 = Math.abs(l1[j]! - l1[mid]!);
+      const s0 = Math.abs(l0[j]! - l0[mid]!);
+      if (Number.isFinite(s1)) scale = Math.max(scale, s1);
+      if (Number.isFinite(s0)) scale = Math.max(scale, s0);
+    }
+  }
+  return scale;
 }
 
 /** The scan grid: a uniform grid with geometric points near both endpoints, both endpoints, and seeded random points. */
@@ -47,14 +79,9 @@ export function buildGrid(resolution: number, seed: number, edgeExponent = 10): 
 
 /** The partial losses evaluated on the grid `qs` (a throwing or non-finite closure gives NaN). */
 export function buildTable(fns: LossFunctions, qs: number[], tol: number, flatTol: number): Table {
-  return {
-    tol,
-    flatTol,
-    qs,
-    l1: qs.map((q) => safeCall(fns.l1, q)),
-    l0: qs.map((q) => safeCall(fns.l0, q)),
-    interior: qs.map((q) => q > 0 && q < 1),
-  };
+  const l1 = qs.map((q) => safeCall(fns.l1, q));
+  const l0 = qs.map((q) => safeCall(fns.l0, q));
+  return { tol, flatTol, qs, l1, l0, interior: qs.map((q) => q > 0 && q < 1), scale: tableScale(qs, l1, l0) };
 }
 
 /** Halvings used to test every grid cell for a jump: a jump keeps its size while smooth deviations shrink by 2^-k. */
@@ -91,10 +118,13 @@ function slopeModel(sides: { x: number; s: number }[]): SlopeModel {
  * Halves the cell [qs[j], qs[j+1]] of the partial loss `f` towards the half that deviates most from the
  * predicted smooth part; returns the final bracket when the deviation persists (a jump), else null.
  */
-function locateJump(f: RealFn, lo: number, hi: number, flo: number, fhi: number, slope: SlopeModel): [number, number] | null {
+/** A cell's deviation from the predicted smooth part below this (relative to the loss's scale and the two values) is rounding, not a jump candidate. */
+export const JUMP_FLOOR_TOL = 1e-12;
+
+function locateJump(f: RealFn, lo: number, hi: number, flo: number, fhi: number, slope: SlopeModel, scale: number): [number, number] | null {
   const dev = (a: number, b: number, fa: number, fb: number) => Math.abs(fb - fa - slope(0.5 * (a + b)) * (b - a));
   const cellDev = dev(lo, hi, flo, fhi);
-  const floor = 1e-12 * (1 + Math.abs(flo) + Math.abs(fhi));
+  const floor = JUMP_FLOOR_TOL * (scale + Math.abs(flo) + Math.abs(fhi));
   if (!(cellDev > floor)) return null;
   for (let k = 0; k < JUMP_MAX_HALVINGS && hi - lo > 1e-15; k++) {
     if (k === JUMP_PROBE_HALVINGS && !(dev(lo, hi, flo, fhi) > Math.max(floor, JUMP_PERSIST_FRACTION * cellDev))) return null;
@@ -139,7 +169,7 @@ export function jumpPoints(fns: LossFunctions, t: Table, deadline: Deadline): nu
       if (!Number.isFinite(flo) || !Number.isFinite(fhi)) continue;
       const sides = [chord(j - 1), chord(j + 1)].filter((c): c is { x: number; s: number } => c !== null);
       if (sides.length === 0) continue;
-      const bracket = locateJump(f, t.qs[j]!, t.qs[j + 1]!, flo, fhi, slopeModel(sides));
+      const bracket = locateJump(f, t.qs[j]!, t.qs[j + 1]!, flo, fhi, slopeModel(sides), t.scale);
       if (!bracket) continue;
       const [lo, hi] = bracket;
       const c = 0.5 * (lo + hi);
@@ -169,9 +199,9 @@ export function tableRisk(t: Table, eta: number, j: number): number {
   return Number.isFinite(r) ? r : NaN;
 }
 
-/** The absolute gap tolerance at η: `rel` scaled by the size of the two terms of L(η, η). */
-export function riskTol(fns: LossFunctions, eta: number, rel: number): number {
+/** The absolute gap tolerance at η: `rel` times the loss's scale plus the size of the two terms of L(η, η). */
+export function riskTol(fns: LossFunctions, eta: number, rel: number, scale: number): number {
   const a = eta === 0 ? 0 : Math.abs(eta * safeCall(fns.l1, eta));
   const b = eta === 1 ? 0 : Math.abs((1 - eta) * safeCall(fns.l0, eta));
-  return rel * (1 + a + b);
+  return rel * (scale + a + b);
 }

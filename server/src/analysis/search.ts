@@ -39,18 +39,21 @@ export interface SearchOutcome {
   slopePoints: number[];
 }
 
-/** Confirms a candidate (η, q) from the closures; returns it as a counterexample when the gap exceeds the tolerance. */
-export function confirm(fns: LossFunctions, eta: number, q: number, rel: number): Counterexample | null {
+/**
+ * Confirms a candidate (η, q) from the closures; returns it as a counterexample when the gap exceeds the
+ * tolerance `rel` relative to the loss's scale `scale` (`tableScale`) and the terms of L(η, η).
+ */
+export function confirm(fns: LossFunctions, eta: number, q: number, rel: number, scale: number): Counterexample | null {
   const riskAtEta = fns.risk(eta, eta);
   const riskAtQ = fns.risk(eta, q);
   if (!Number.isFinite(riskAtEta) || !Number.isFinite(riskAtQ)) return null;
-  if (riskAtQ < riskAtEta - riskTol(fns, eta, rel)) return { eta, q, riskAtEta, riskAtQ };
+  if (riskAtQ < riskAtEta - riskTol(fns, eta, rel, scale)) return { eta, q, riskAtEta, riskAtQ };
   return null;
 }
 
-/** Relative size of a counterexample's gap, used to pick the most convincing one. */
-function gapScore(c: Counterexample): number {
-  return (c.riskAtEta - c.riskAtQ) / (1 + Math.abs(c.riskAtEta));
+/** Relative size of a counterexample's gap (against the loss's scale), used to pick the most convincing one. */
+export function gapScore(c: Counterexample, scale: number): number {
+  return (c.riskAtEta - c.riskAtQ) / (scale + Math.abs(c.riskAtEta));
 }
 
 /** The first interior grid point where l1 or l0 is not finite. */
@@ -95,10 +98,10 @@ function scanCandidates(t: Table, deadline: Deadline): { candidates: Candidate[]
       }
     }
     if (bestJ < 0) continue;
-    const scale = 1 + Math.abs(eta === 0 ? 0 : eta * t.l1[i]!) + Math.abs(eta === 1 ? 0 : (1 - eta) * t.l0[i]!);
+    const scale = t.scale + Math.abs(eta === 0 ? 0 : eta * t.l1[i]!) + Math.abs(eta === 1 ? 0 : (1 - eta) * t.l0[i]!);
     const gap = diag - best;
     if (gap > t.tol * scale) {
-      const score = gap / (1 + Math.abs(diag));
+      const score = gap / (t.scale + Math.abs(diag));
       if (cands.length < MAX_CANDIDATES || score > cands[cands.length - 1]!.score) {
         cands.push({ eta, j: bestJ, score });
         cands.sort((x, y) => y.score - x.score);
@@ -116,7 +119,7 @@ function refineCandidate(fns: LossFunctions, t: Table, c: Candidate): Counterexa
   const hi = t.qs[Math.min(n - 1, c.j + 1)]!;
   const m = goldenMin((q) => fns.risk(c.eta, q), lo, hi);
   const q = m.fx < fns.risk(c.eta, t.qs[c.j]!) ? m.x : t.qs[c.j]!;
-  return confirm(fns, c.eta, q, t.tol);
+  return confirm(fns, c.eta, q, t.tol, t.scale);
 }
 
 /**
@@ -143,7 +146,7 @@ function slopeSearch(fns: LossFunctions, t: Table, deadline: Deadline): { confir
     const r = Math.min(0.05, eta, 1 - eta);
     const [lo, hi] = s < 0 ? [eta, Math.min(1, eta + r)] : [Math.max(0, eta - r), eta];
     const m = goldenMin((q) => fns.risk(eta, q), lo, hi);
-    const c = confirm(fns, eta, m.x, t.tol);
+    const c = confirm(fns, eta, m.x, t.tol, t.scale);
     if (c) {
       points.push(eta);
       confirmed.push(c);
@@ -158,7 +161,7 @@ export function searchCounterexample(fns: LossFunctions, t: Table, deadline: Dea
   const scan = scanCandidates(t, deadline);
   let counterexample: Counterexample | null = null;
   const consider = (c: Counterexample | null) => {
-    if (c && (!counterexample || gapScore(c) > gapScore(counterexample))) counterexample = c;
+    if (c && (!counterexample || gapScore(c, t.scale) > gapScore(counterexample, t.scale))) counterexample = c;
   };
   for (const c of scan.candidates) consider(refineCandidate(fns, t, c));
   if (scan.timedOut) return { counterexample, nonFinite, timedOut: true, slopePoints: [] };

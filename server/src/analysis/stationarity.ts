@@ -11,7 +11,7 @@ import type { Table } from "./risk-table.js";
 
 /** Relative disagreement of the stationarity ratios −l1'/(1−q) and l0'/q reported as a mismatch (well above difference noise). */
 export const STATIONARITY_TOL = 1e-5;
-/** Relative increase of l1 (or decrease of l0) between grid neighbours that counts as a monotonicity failure. */
+/** Increase of l1 (or decrease of l0) between grid neighbours, relative to the loss's scale and the two values, that counts as a monotonicity failure. */
 export const MONOTONE_TOL = 1e-9;
 
 /**
@@ -24,7 +24,7 @@ function firstIncrease(t: Table, vals: number[], sign: 1 | -1): { q: number; q2:
     if (!t.interior[j] || !Number.isFinite(vals[j]!)) continue;
     if (prev >= 0) {
       const d = sign * (vals[j]! - vals[prev]!);
-      if (d > MONOTONE_TOL * (1 + Math.abs(vals[j]!) + Math.abs(vals[prev]!))) {
+      if (d > MONOTONE_TOL * (t.scale + Math.abs(vals[j]!) + Math.abs(vals[prev]!))) {
         let k = j;
         while (k + 1 < t.qs.length && t.interior[k + 1] && sign * (vals[k + 1]! - vals[k]!) > 0) k++;
         return { q: t.qs[prev]!, q2: t.qs[k]!, value: vals[prev]!, value2: vals[k]! };

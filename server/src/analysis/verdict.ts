@@ -14,6 +14,7 @@ import { buildGrid, buildTable, extendTable, jumpPoints, NUMERIC_DERIVATIVE_EDGE
 import { searchCounterexample, type Counterexample } from "./search.js";
 import { findFlatIntervals, FLAT_VARIATION_TOL, FLAT_VARIATION_TOL_NUMERIC } from "./flat.js";
 import { monotonicityFindings, stationarityFinding } from "./stationarity.js";
+import { identityScan } from "./identity-scan.js";
 import { checkBayesConcavity, checkDeclaredBayes, checkWeightSign } from "./clause-checks.js";
 import {
   improperFinding,
@@ -28,6 +29,17 @@ import {
 
 export type PropernessVerdict = "strictly-proper" | "proper" | "improper" | "unknown";
 
+/**
+ * What a verdict without a counterexample rests on: the scan table's resolution and, for partial losses
+ * with closed-form derivatives, the derivative check of `identity-scan.ts` (null when the derivatives are
+ * numeric, so the verdict rests on sampling alone).
+ */
+export interface SamplingEvidence {
+  /** Points of the scan table (uniform, geometric near the endpoints, seeded random, around jumps). */
+  gridPoints: number;
+  identity: { points: number; refinedCells: number } | null;
+}
+
 /** The outcome for one instance; `table` and `slopePoints` are kept for the recovery map and the evidence. */
 export interface InstanceResult {
   verdict: PropernessVerdict;
@@ -37,6 +49,17 @@ export interface InstanceResult {
   fns: LossFunctions | null;
   table: Table | null;
   slopePoints: number[];
+  /** Present when no counterexample was found: what the positive (or unknown) verdict rests on. */
+  evidence?: SamplingEvidence;
+}
+
+/**
+ * Whether the derivatives of the partial losses on q are closed forms (the user's or symbolic ones), so
+ * the stationarity identity can back the verdict: partial losses with both derivatives, on q or on the
+ * score (the link's derivative is a common factor of both ratios and cancels in the identity).
+ */
+function exactDerivatives(spec: LossSpec): boolean {
+  return (spec.form === "partials" || spec.form === "score-partials") && !!spec.dl1 && !!spec.dl0;
 }
 
 /** The first finding's message, for building "unknown" reasons. */
@@ -122,30 +145,44 @@ export function analyseSpec(spec: LossSpec, deadline: Deadline, seed: number, re
   const s = searchCounterexample(fns, table, deadline);
   if (s.nonFinite) findings.push(nonFiniteValueFinding(spec.form, s.nonFinite));
   if (full) findings.push(...clauseFindings(spec, fns));
-  const ce = s.counterexample;
+  let ce = s.counterexample;
+  let slopePoints = s.slopePoints;
+  let identity: SamplingEvidence["identity"] = null;
+  let timedOut = s.timedOut;
+  // No counterexample on the table: the derivative identities, refined where they fail, look between grid points.
+  if (!ce && !timedOut && !s.nonFinite && exactDerivatives(spec)) {
+    const id = identityScan(fns, table, deadline);
+    identity = { points: id.points, refinedCells: id.refinedCells };
+    timedOut = id.timedOut;
+    if (id.counterexample) {
+      ce = id.counterexample;
+      slopePoints = id.slopePoints;
+    }
+  }
   if (ce) {
     findings.push(improperFinding(ce));
-    if (full) findings.push(...impropernessEvidence(spec, fns, table, s.slopePoints, ce));
-    return { ...base, verdict: "improper", counterexample: ce, findings, fns, table, slopePoints: s.slopePoints };
+    if (full) findings.push(...impropernessEvidence(spec, fns, table, slopePoints, ce));
+    return { ...base, verdict: "improper", counterexample: ce, findings, fns, table, slopePoints };
   }
-  if (s.timedOut) {
+  const evidence: SamplingEvidence = { gridPoints: table.qs.length, identity };
+  if (timedOut) {
     findings.push(searchTimedOutFinding());
-    return { ...base, verdict: "unknown", findings, fns, table };
+    return { ...base, verdict: "unknown", findings, fns, table, evidence };
   }
   if (s.nonFinite) {
     findings.push(nonFiniteUnknownFinding(s.nonFinite));
-    return { ...base, verdict: "unknown", findings, fns, table };
+    return { ...base, verdict: "unknown", findings, fns, table, evidence };
   }
   if (full && deadline.expired()) {
     // No counterexample was found, but strictness was not examined: claim only properness and say why.
     findings.push(strictnessTimedOutFinding());
-    return { ...base, verdict: "proper", findings, fns, table };
+    return { ...base, verdict: "proper", findings, fns, table, evidence };
   }
   const runs = full ? findFlatIntervals(fns, table) : [];
   if (runs.length > 0) {
     const widest = runs.reduce((x, y) => (y.b - y.a > x.b - x.a ? y : x));
     findings.push(properNotStrictFinding(runs));
-    return { ...base, verdict: "proper", flatInterval: [widest.a, widest.b], findings, fns, table };
+    return { ...base, verdict: "proper", flatInterval: [widest.a, widest.b], findings, fns, table, evidence };
   }
-  return { ...base, verdict: "strictly-proper", findings, fns, table };
+  return { ...base, verdict: "strictly-proper", findings, fns, table, evidence };
 }

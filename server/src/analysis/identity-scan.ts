@@ -1,0 +1,166 @@
+/**
+ * The derivative check that backs a positive verdict of the sampled search: for partial losses with
+ * closed-form derivatives, a proper loss satisfies the stationarity identity −l1'(q)/(1−q) = l0'(q)/q with
+ * the common value w(q) ≥ 0 (Reid & Williamson 2010, "Composite Binary Losses", JMLR 11, Thm 1; Savage
+ * 1971, "Elicitation of Personal Probabilities and Expectations", JASA 66). Both are checked on a uniform
+ * grid finer than the scan table, refined adaptively where the identity's residual rises above rounding or
+ * the sign of w changes between neighbours, so a feature narrower than the table's cells is found where its
+ * derivatives leak out. A failure is never reported as such: since
+ * ∂L(η, q)/∂q at q = η equals η(1−η)(r0 − r1) (r1, r0 the two ratios), a residual means L(η, ·) descends
+ * from q = η, and the descent's end is confirmed from the closures (`confirm`) before it counts.
+ */
+import type { LossFunctions } from "../loss-model.js";
+import { goldenMin } from "./numeric/minimise.js";
+import { safeCall } from "./margin.js";
+import { confirm, gapScore, type Counterexample } from "./search.js";
+import type { Table } from "./risk-table.js";
+import type { Deadline } from "./budget.js";
+
+/** Cells of the uniform derivative grid on (0, 1): 1/1024 ≈ 1e-3, so a bump of width 1e-4 has a grid point within five widths of its centre, where its slope is still ~1e-8 of the loss's (common practice: e^{-25} tails). */
+export const IDENTITY_SCAN_CELLS = 1024;
+/** The derivative grid stays this far from 0 and 1, where the ratios divide by q or 1 − q and the table's geometric points take over. */
+export const IDENTITY_EDGE = 1e-6;
+/**
+ * Relative residual |r1 − r0| / (|r1| + |r0| + floor) above which a cell is refined: closed-form
+ * derivatives agree to ~1e-13 relative (rounding through a few dozen operations), so 1e-10 is noise-free
+ * and still sees the e^{-25} tail of a narrow bump.
+ */
+export const IDENTITY_NOISE_TOL = 1e-10;
+/** Floor of the residual's denominator, relative to the median |w| of the scan: where w vanishes (w = 30|q − ½|⁴ at ½) the two ratios are both rounding, and their disagreement is not news. */
+export const WEIGHT_FLOOR_REL = 1e-8;
+/** Flagged cells refined, the worst first (a proper loss has none; an improper one needs one). */
+export const MAX_REFINED_CELLS = 8;
+/** Interior samples per refinement level. */
+export const REFINE_SAMPLES = 8;
+/** Refinement levels: each divides the bracket by (REFINE_SAMPLES + 1)/2, so 12 levels take a 1e-3 cell below 1e-9. */
+export const REFINE_LEVELS = 12;
+/** Best points of the refinement tried as η of a descent (each costs two golden-section minimisations). */
+export const DESCENT_STARTS = 4;
+
+/** What the derivative check looked at, and the counterexample it found. */
+export interface IdentityScan {
+  counterexample: Counterexample | null;
+  /** Points at which the identity and the sign of w were evaluated (uniform grid, table points and refinements). */
+  points: number;
+  /** Cells refined because the residual or the sign of w flagged them. */
+  refinedCells: number;
+  /** η of confirmed descents (evidence for the stationarity finding). */
+  slopePoints: number[];
+  timedOut: boolean;
+}
+
+interface Probe {
+  q: number;
+  /** Relative residual of the identity, including a negative w (0 where the identity holds with w ≥ 0). */
+  rel: number;
+  /** |r1 − r0| + negative parts of r1, r0, in units of the scan's median |w| (what a descent from q can gain grows with it). */
+  size: number;
+  /** Signs of r1 and r0 (0 inside the noise floor). */
+  s1: number;
+  s0: number;
+}
+
+function ratios(fns: LossFunctions, q: number): [number, number] {
+  return [-safeCall(fns.dl1, q) / (1 - q), safeCall(fns.dl0, q) / q];
+}
+
+/** The uniform derivative grid plus the table's interior points inside [IDENTITY_EDGE, 1 − IDENTITY_EDGE]. */
+function scanPoints(t: Table): number[] {
+  const pts: number[] = [];
+  for (let i = 1; i < IDENTITY_SCAN_CELLS; i++) pts.push(i / IDENTITY_SCAN_CELLS);
+  for (const q of t.qs) if (q >= IDENTITY_EDGE && q <= 1 - IDENTITY_EDGE) pts.push(q);
+  return [...new Set(pts)].sort((a, b) => a - b);
+}
+
+/**
+ * Checks the stationarity identity and the sign of w on an adaptively refined grid and, where they fail,
+ * looks for a descent from q = η, confirmed from the closures against the table's tolerance and scale.
+ */
+export function identityScan(fns: LossFunctions, t: Table, deadline: Deadline): IdentityScan {
+  const qs = scanPoints(t);
+  const raw = qs.map((q) => ratios(fns, q));
+  // The scan's own scale of w: the median |w| (robust to the endpoint blow-up of log loss's w = 1/(q(1−q))).
+  const mags = raw.map(([a, b]) => 0.5 * (Math.abs(a) + Math.abs(b))).filter((x) => Number.isFinite(x)).sort((a, b) => a - b);
+  const wScale = mags.length > 0 ? mags[mags.length >> 1]! : 0;
+  const floor = WEIGHT_FLOOR_REL * wScale;
+  let points = qs.length;
+  const probe = (q: number, r: [number, number]): Probe | null => {
+    const [r1, r0] = r;
+    if (!Number.isFinite(r1) || !Number.isFinite(r0)) return null;
+    const bad = Math.abs(r1 - r0) + Math.max(0, -r1) + Math.max(0, -r0);
+    const denom = Math.abs(r1) + Math.abs(r0) + floor;
+    const sign = (x: number) => (Math.abs(x) <= floor ? 0 : Math.sign(x));
+    return { q, rel: denom > 0 ? bad / denom : 0, size: wScale > 0 ? bad / wScale : bad, s1: sign(r1), s0: sign(r0) };
+  };
+  const probes = qs.map((q, i) => probe(q, raw[i]!));
+  // Flag cells whose ends show a residual above rounding or between which the sign of w changes.
+  const flagged: { lo: number; hi: number; score: number }[] = [];
+  for (let i = 0; i + 1 < probes.length; i++) {
+    const a = probes[i];
+    const b = probes[i + 1];
+    if (!a || !b) continue;
+    const score = Math.max(a.rel, b.rel);
+    const signChange = a.s1 * b.s1 < 0 || a.s0 * b.s0 < 0;
+    if (score > IDENTITY_NOISE_TOL || signChange) flagged.push({ lo: a.q, hi: b.q, score: signChange ? Math.max(score, 1) : score });
+  }
+  flagged.sort((x, y) => y.score - x.score);
+  const cells = flagged.slice(0, MAX_REFINED_CELLS);
+  // Zoom into each flagged cell towards the point of the largest violation.
+  const starts: Probe[] = [];
+  for (let c = 0; c < cells.length; c++) {
+    if (deadline.expired()) return { counterexample: null, points, refinedCells: c, slopePoints: [], timedOut: true };
+    let { lo, hi } = cells[c]!;
+    let best: Probe | null = null;
+    for (let level = 0; level < REFINE_LEVELS && hi - lo > 1e-12; level++) {
+      const h = (hi - lo) / (REFINE_SAMPLES + 1);
+      for (let k = 1; k <= REFINE_SAMPLES; k++) {
+        const q = lo + k * h;
+        points++;
+        const p = probe(q, ratios(fns, q));
+        if (p && p.rel > IDENTITY_NOISE_TOL && (!best || p.size > best.size)) best = p;
+      }
+      if (!best) break;
+      lo = Math.max(lo, best.q - h);
+      hi = Math.min(hi, best.q + h);
+    }
+    if (best) starts.push(best);
+  }
+  starts.sort((x, y) => y.size - x.size);
+  let counterexample: Counterexample | null = null;
+  const slopePoints: number[] = [];
+  for (let s = 0; s < Math.min(DESCENT_STARTS, starts.length); s++) {
+    if (deadline.expired()) return { counterexample, points, refinedCells: cells.length, slopePoints, timedOut: true };
+    const c = descend(fns, t, starts[s]!.q);
+    if (c) {
+      slopePoints.push(c.eta);
+      if (!counterexample || gapScore(c, t.scale) > gapScore(counterexample, t.scale)) counterexample = c;
+    }
+  }
+  return { counterexample, points, refinedCells: cells.length, slopePoints, timedOut: false };
+}
+
+/** Radii of the descent from q = η: a grid cell (a narrow feature) and the search's neighbourhood. */
+const DESCENT_RADII: readonly number[] = [2 / IDENTITY_SCAN_CELLS, 0.05];
+
+/**
+ * A descent of L(η, ·) from q = η on both sides (downhill first: the slope at η is η·l1'(η) + (1−η)·l0'(η);
+ * with w < 0 and the identity holding, q = η is a local maximum and both sides descend), confirmed from
+ * the closures. The best confirmed point, or null.
+ */
+function descend(fns: LossFunctions, t: Table, eta: number): Counterexample | null {
+  const slope = eta * safeCall(fns.dl1, eta) + (1 - eta) * safeCall(fns.dl0, eta);
+  const sides: (1 | -1)[] = slope > 0 ? [-1, 1] : [1, -1];
+  let best: Counterexample | null = null;
+  for (const r0 of DESCENT_RADII) {
+    for (const side of sides) {
+      const r = Math.min(r0, side < 0 ? eta : 1 - eta);
+      if (!(r > 0)) continue;
+      const [lo, hi] = side < 0 ? [eta - r, eta] : [eta, eta + r];
+      const m = goldenMin((q) => fns.risk(eta, q), lo, hi);
+      const c = confirm(fns, eta, m.x, t.tol, t.scale);
+      if (c && (!best || gapScore(c, t.scale) > gapScore(best, t.scale))) best = c;
+    }
+    if (best) return best;
+  }
+  return best;
+}
