@@ -19,13 +19,16 @@ vim.lsp.handlers["window/showMessage"] = function(err, result, ctx, config)
   return show(err, result, ctx, config)
 end
 -- The lenses as the editor shows them (refresh until the engine's summaries replace "analysing…").
-local lenses = {}
-vim.wait(30000, function()
+local function ready()
+  local l = vim.lsp.codelens.get(buf)
+  return #l > 0 and not l[1].command.title:match("analysing")
+end
+local deadline = vim.loop.now() + 30000
+repeat
   vim.lsp.codelens.refresh()
-  vim.wait(500, function() return false end, 50)
-  lenses = vim.lsp.codelens.get(buf)
-  return #lenses > 0 and not lenses[1].command.title:match("analysing")
-end, 100)
+  vim.wait(1000, ready, 50)
+until ready() or vim.loop.now() > deadline
+local lenses = vim.lsp.codelens.get(buf)
 if #lenses == 0 then vim.cmd("cquit 4") end
 table.sort(lenses, function(a, b) return a.range.start.line < b.range.start.line end)
 for _, l in ipairs(lenses) do out("LENS " .. l.command.command .. " | " .. l.command.title) end
