@@ -30,7 +30,10 @@ export interface GenerateOptions {
   sourceName?: string;
 }
 
-export type GenerateResult = { ok: true; code: string; fileName: string } | { ok: false; message: string };
+/** The module text and its default file name, with the losses that could not be generated and why (listed in the header too). */
+export type GenerateResult =
+  | { ok: true; code: string; fileName: string; skipped: { name: string; reason: string }[] }
+  | { ok: false; message: string };
 
 const EXTENSIONS: Record<Target, string> = { torch: "py", jax: "py", numpy: "py", ts: "ts" };
 
@@ -87,7 +90,7 @@ export function generate(doc: DocumentAnalysis, options: GenerateOptions): Gener
       skipped: skipped.map((s) => ({ name: s.name, reason: commentSafe(s.reason) })),
     };
     const code = emit(options.target, input);
-    return { ok: true, code, fileName: outputName(options, source) };
+    return { ok: true, code, fileName: outputName(options, source), skipped };
   } catch (err) {
     // Emitters throw only on expressions the lowering should have refused; report instead of crashing.
     return { ok: false, message: `internal error in code generation: ${err instanceof Error ? err.message : String(err)}` };
