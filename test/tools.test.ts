@@ -7,6 +7,7 @@ import { execFileSync } from "node:child_process";
 import { existsSync } from "node:fs";
 import { describe, expect, it } from "vitest";
 import { pythonHas } from "./codegen/support.js";
+import { torchPython } from "./codegen/torch-python.js";
 
 const inCi = process.env["CI"] === "true";
 
@@ -23,6 +24,7 @@ const TOOLS: [string, () => boolean, string][] = [
   ["Chromium (report export, viewer and report pages)", () => existsSync("/usr/bin/chromium"), "apt-get install chromium"],
   ["Neovim (second LSP client)", () => runs("nvim", ["--version"]), "apt-get install neovim"],
   ["NumPy for python3 (generated NumPy code is executed)", () => pythonHas("numpy"), "apt-get install python3-numpy"],
+  ["PyTorch for python3 (generated PyTorch code is executed)", () => torchPython() !== null, "apt-get install python3-torch"],
 ];
 
 describe("external tools", () => {

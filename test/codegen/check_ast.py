@@ -14,7 +14,7 @@ import json
 import math
 import sys
 
-ALLOWED = {"torch": {"torch"}, "jax": {"jax", "jax.numpy", "jax.scipy.special"}}
+ALLOWED = {"torch": {"torch", "typing"}, "jax": {"jax", "jax.numpy", "jax.scipy.special"}}
 
 
 def check(target, source):

@@ -29,11 +29,36 @@ export const TORCH_DIALECT = pythonDialect({
   where: (c, a, b, ra, rb, v) => `torch.where(${c}, ${isNumber(ra) ? `torch.full_like(${v}, ${a})` : a}, ${isNumber(rb) ? `torch.full_like(${v}, ${b})` : b})`,
 });
 
+/**
+ * `_reduce` for TorchScript: annotated (an unannotated parameter is a Tensor there), and the message built by
+ * concatenation (TorchScript compiles no f-string conversion such as `!r`).
+ */
+const TORCH_REDUCE = [
+  "def _reduce(loss: torch.Tensor, weight: typing.Optional[torch.Tensor], reduction: str) -> torch.Tensor:",
+  '    """Multiplies in the sample weights, then reduces: "mean", "sum" or "none"."""',
+  "    if weight is not None:",
+  "        loss = loss * weight",
+  '    if reduction == "mean":',
+  "        return loss.mean()",
+  '    if reduction == "sum":',
+  "        return loss.sum()",
+  '    if reduction == "none":',
+  "        return loss",
+  '    raise ValueError("reduction must be \\"mean\\", \\"sum\\" or \\"none\\", not \\"" + reduction + "\\"")',
+];
+
 const target: PyTarget = {
   target: "torch",
   dialect: TORCH_DIALECT,
-  imports: ["import torch"],
-  notes: ["PyTorch: differentiate with autograd (loss.backward()); pred and target are tensors of the same shape."],
+  // `typing` for the Optional annotation TorchScript needs (standard library first, PEP 8).
+  imports: ["import typing", "", "import torch"],
+  notes: [
+    "PyTorch: differentiate with autograd (loss.backward()); pred and target are tensors of the same shape.",
+    "TorchScript: torch.jit.script accepts every function here (weight and reduction are annotated; clamping bounds are literals).",
+  ],
+  signature: 'pred, target, weight: typing.Optional[torch.Tensor] = None, reduction: str = "mean"',
+  reduce: TORCH_REDUCE,
+  literalEps: true,
   asArray: (p) => `torch.as_tensor(${p})`,
   labels: (t, like) => `torch.as_tensor(${t}, dtype=${like}.dtype, device=${like}.device)`,
   clamp: (x, lo, hi) => `torch.clamp(${x}${lo ? `, min=${lo}` : ""}${hi ? `, max=${hi}` : ""})`,

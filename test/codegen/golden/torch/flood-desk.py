@@ -2,6 +2,9 @@
 # Do not edit by hand: change the .loss file and regenerate.
 # Labels are y in {0, 1}; each function returns the reduced loss (or per-sample values with reduction="none").
 # PyTorch: differentiate with autograd (loss.backward()); pred and target are tensors of the same shape.
+# TorchScript: torch.jit.script accepts every function here (weight and reduction are annotated; clamping bounds are literals).
+import typing
+
 import torch
 
 # Clamping bound for probabilities where a singularity remains: 1e-7 suits float32 (machine epsilon 1.19e-7),
@@ -9,7 +12,7 @@ import torch
 EPS = 1e-7
 
 
-def _reduce(loss, weight, reduction):
+def _reduce(loss: torch.Tensor, weight: typing.Optional[torch.Tensor], reduction: str) -> torch.Tensor:
     """Multiplies in the sample weights, then reduces: "mean", "sum" or "none"."""
     if weight is not None:
         loss = loss * weight
@@ -19,7 +22,7 @@ def _reduce(loss, weight, reduction):
         return loss.sum()
     if reduction == "none":
         return loss
-    raise ValueError(f"reduction must be \"mean\", \"sum\" or \"none\", not {reduction!r}")
+    raise ValueError("reduction must be \"mean\", \"sum\" or \"none\", not \"" + reduction + "\"")
 
 
 # loss `log_loss` from flood-desk.loss (form: partial losses), generated as log_loss
@@ -32,7 +35,7 @@ def _reduce(loss, weight, reduction):
 # input: pred holds probabilities q in [0, 1]
 # partial losses: y = 1: -ln(q); y = 0: -ln(1 - q)
 # clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (chosen for float32), because a singularity remains at q = 0 and q = 1
-def log_loss(pred, target, weight=None, reduction="mean"):
+def log_loss(pred, target, weight: typing.Optional[torch.Tensor] = None, reduction: str = "mean"):
     """Loss `log_loss`: per-sample y * l1(q) + (1 - y) * l0(q), optionally weighted, then reduced.
 
     pred: probabilities q in [0, 1] (clamped to the EPS bounds);
@@ -40,7 +43,7 @@ def log_loss(pred, target, weight=None, reduction="mean"):
     weight: optional per-sample weights, multiplied in before the reduction;
     reduction: "mean" (mean over samples of the weighted losses), "sum" or "none" (per-sample values).
     """
-    q = torch.clamp(torch.as_tensor(pred), min=EPS, max=1.0 - EPS)
+    q = torch.clamp(torch.as_tensor(pred), min=1e-7, max=1.0 - 1e-7)
     y = torch.as_tensor(target, dtype=q.dtype, device=q.device)
     loss = y * (-torch.log(q)) + (1 - y) * (-torch.log1p(-q))
     return _reduce(loss, weight, reduction)
@@ -56,7 +59,7 @@ def log_loss(pred, target, weight=None, reduction="mean"):
 # input: pred holds probabilities q in [0, 1]
 # partial losses: y = 1: (1 - q)^2; y = 0: q^2
 # clamping: none (finite on the whole input range)
-def brier(pred, target, weight=None, reduction="mean"):
+def brier(pred, target, weight: typing.Optional[torch.Tensor] = None, reduction: str = "mean"):
     """Loss `brier`: per-sample y * l1(q) + (1 - y) * l0(q), optionally weighted, then reduced.
 
     pred: probabilities q in [0, 1];
@@ -80,7 +83,7 @@ def brier(pred, target, weight=None, reduction="mean"):
 # input: pred holds probabilities q in [0, 1]
 # partial losses: y = 1: (1 - q)^6 / 6 - (1 - q)^7 / 7; y = 0: q^3 / 3 - q^4 + 6 * q^5 / 5 - 2 * q^6 / 3 + q^7 / 7
 # clamping: none (finite on the whole input range)
-def alert_focus(pred, target, weight=None, reduction="mean"):
+def alert_focus(pred, target, weight: typing.Optional[torch.Tensor] = None, reduction: str = "mean"):
     """Loss `alert_focus`: per-sample y * l1(q) + (1 - y) * l0(q), optionally weighted, then reduced.
 
     pred: probabilities q in [0, 1];
@@ -104,7 +107,7 @@ def alert_focus(pred, target, weight=None, reduction="mean"):
 # input: pred holds probabilities q in [0, 1]
 # partial losses: y = 1: -((1 - q)^2 * ln(q)); y = 0: -(q^2 * ln(1 - q))
 # clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (chosen for float32), because a singularity remains at q = 0 and q = 1
-def focal(pred, target, weight=None, reduction="mean"):
+def focal(pred, target, weight: typing.Optional[torch.Tensor] = None, reduction: str = "mean"):
     """Loss `focal`: per-sample y * l1(q) + (1 - y) * l0(q), optionally weighted, then reduced.
 
     pred: probabilities q in [0, 1] (clamped to the EPS bounds);
@@ -112,7 +115,7 @@ def focal(pred, target, weight=None, reduction="mean"):
     weight: optional per-sample weights, multiplied in before the reduction;
     reduction: "mean" (mean over samples of the weighted losses), "sum" or "none" (per-sample values).
     """
-    q = torch.clamp(torch.as_tensor(pred), min=EPS, max=1.0 - EPS)
+    q = torch.clamp(torch.as_tensor(pred), min=1e-7, max=1.0 - 1e-7)
     y = torch.as_tensor(target, dtype=q.dtype, device=q.device)
     loss = y * (-((1 - q) ** 2 * torch.log(q))) + (1 - y) * (-(q ** 2 * torch.log1p(-q)))
     return _reduce(loss, weight, reduction)
@@ -124,7 +127,7 @@ def focal_recover_posterior(q):
     Reid & Williamson 2010, "Composite Binary Losses", JMLR 11, Cor. 12: at the risk minimiser q*(eta),
     eta * l1'(q*) + (1 - eta) * l0'(q*) = 0. Valid where q*(eta) is monotone.
     """
-    q = torch.clamp(torch.as_tensor(q), max=1.0 - EPS)
+    q = torch.clamp(torch.as_tensor(q), max=1.0 - 1e-7)
     return -((2 * q * torch.log1p(-q) + q ** 2 * (-1 / (1 - q))) / (-(2 * q * torch.log1p(-q) + q ** 2 * (-1 / (1 - q))) + (-(2 * (1 - q) * torch.log(q)) + (1 - q) ** 2 * (1 / q))))
 
 
@@ -139,7 +142,7 @@ def focal_recover_posterior(q):
 # link: probabilities q map to scores by the implied link v = logit(q) / 2 (Reid & Williamson 2010, Cor. 14)
 # partial losses: y = 1: exp(-v); y = 0: exp(v)
 # clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (chosen for float32), because a singularity remains at q = 0 and q = 1
-def boosted_exp(pred, target, weight=None, reduction="mean"):
+def boosted_exp(pred, target, weight: typing.Optional[torch.Tensor] = None, reduction: str = "mean"):
     """Loss `boosted_exp`: per-sample y * l1(q) + (1 - y) * l0(q), optionally weighted, then reduced.
 
     pred: probabilities q in [0, 1] (clamped to the EPS bounds);
@@ -147,7 +150,7 @@ def boosted_exp(pred, target, weight=None, reduction="mean"):
     weight: optional per-sample weights, multiplied in before the reduction;
     reduction: "mean" (mean over samples of the weighted losses), "sum" or "none" (per-sample values).
     """
-    q = torch.clamp(torch.as_tensor(pred), min=EPS, max=1.0 - EPS)
+    q = torch.clamp(torch.as_tensor(pred), min=1e-7, max=1.0 - 1e-7)
     y = torch.as_tensor(target, dtype=q.dtype, device=q.device)
     loss = y * torch.exp(-((torch.log(q) - torch.log1p(-q)) / 2)) + (1 - y) * torch.exp((torch.log(q) - torch.log1p(-q)) / 2)
     return _reduce(loss, weight, reduction)
@@ -163,7 +166,7 @@ def boosted_exp(pred, target, weight=None, reduction="mean"):
 # input: pred holds probabilities q in [0, 1]
 # partial losses: y = 1: (1 - q)^2; y = 0: 1.5 * q^2
 # clamping: none (finite on the whole input range)
-def asymmetric(pred, target, weight=None, reduction="mean"):
+def asymmetric(pred, target, weight: typing.Optional[torch.Tensor] = None, reduction: str = "mean"):
     """Loss `asymmetric`: per-sample y * l1(q) + (1 - y) * l0(q), optionally weighted, then reduced.
 
     pred: probabilities q in [0, 1];
@@ -198,7 +201,7 @@ def asymmetric_recover_posterior(q):
 # link: probabilities q map to scores by the declared link v = 2 * q - 1
 # partial losses: y = 1: max(0, 1 - v)^2; y = 0: max(0, 1 + v)^2
 # clamping: none (finite on the whole input range)
-def squared_hinge(pred, target, weight=None, reduction="mean"):
+def squared_hinge(pred, target, weight: typing.Optional[torch.Tensor] = None, reduction: str = "mean"):
     """Loss `squared_hinge`: per-sample y * l1(q) + (1 - y) * l0(q), optionally weighted, then reduced.
 
     pred: probabilities q in [0, 1];

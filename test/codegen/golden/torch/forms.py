@@ -2,6 +2,9 @@
 # Do not edit by hand: change the .loss file and regenerate.
 # Labels are y in {0, 1}; each function returns the reduced loss (or per-sample values with reduction="none").
 # PyTorch: differentiate with autograd (loss.backward()); pred and target are tensors of the same shape.
+# TorchScript: torch.jit.script accepts every function here (weight and reduction are annotated; clamping bounds are literals).
+import typing
+
 import torch
 
 # Clamping bound for probabilities where a singularity remains: 1e-7 suits float32 (machine epsilon 1.19e-7),
@@ -9,7 +12,7 @@ import torch
 EPS = 1e-7
 
 
-def _reduce(loss, weight, reduction):
+def _reduce(loss: torch.Tensor, weight: typing.Optional[torch.Tensor], reduction: str) -> torch.Tensor:
     """Multiplies in the sample weights, then reduces: "mean", "sum" or "none"."""
     if weight is not None:
         loss = loss * weight
@@ -19,7 +22,7 @@ def _reduce(loss, weight, reduction):
         return loss.sum()
     if reduction == "none":
         return loss
-    raise ValueError(f"reduction must be \"mean\", \"sum\" or \"none\", not {reduction!r}")
+    raise ValueError("reduction must be \"mean\", \"sum\" or \"none\", not \"" + reduction + "\"")
 
 
 # loss `half_brier` from forms.loss (form: partial losses), generated as half_brier
@@ -32,7 +35,7 @@ def _reduce(loss, weight, reduction):
 # input: pred holds probabilities q in [0, 1]
 # partial losses: y = 1: (1 - q)^2 / 2; y = 0: q^2 / 2
 # clamping: none (finite on the whole input range)
-def half_brier(pred, target, weight=None, reduction="mean"):
+def half_brier(pred, target, weight: typing.Optional[torch.Tensor] = None, reduction: str = "mean"):
     """Loss `half_brier`: per-sample y * l1(q) + (1 - y) * l0(q), optionally weighted, then reduced.
 
     pred: probabilities q in [0, 1];
@@ -56,7 +59,7 @@ def half_brier(pred, target, weight=None, reduction="mean"):
 # input: pred holds probabilities q in [0, 1]
 # partial losses: y = 1: -(q * ln(q)) - (1 - q) * ln(1 - q) + (1 - q) * (-(ln(q) + q * (1 / q)) - (-ln(1 - q) + (1 - q) * (-1 / (1 - q)))); y = 0: -(q * ln(q)) - (1 - q) * ln(1 - q) - q * (-(ln(q) + q * (1 / q)) - (-ln(1 - q) + (1 - q) * (-1 / (1 - q))))
 # clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (chosen for float32), because a singularity remains at q = 0 and q = 1
-def entropy(pred, target, weight=None, reduction="mean"):
+def entropy(pred, target, weight: typing.Optional[torch.Tensor] = None, reduction: str = "mean"):
     """Loss `entropy`: per-sample y * l1(q) + (1 - y) * l0(q), optionally weighted, then reduced.
 
     pred: probabilities q in [0, 1] (clamped to the EPS bounds);
@@ -64,7 +67,7 @@ def entropy(pred, target, weight=None, reduction="mean"):
     weight: optional per-sample weights, multiplied in before the reduction;
     reduction: "mean" (mean over samples of the weighted losses), "sum" or "none" (per-sample values).
     """
-    q = torch.clamp(torch.as_tensor(pred), min=EPS, max=1.0 - EPS)
+    q = torch.clamp(torch.as_tensor(pred), min=1e-7, max=1.0 - 1e-7)
     y = torch.as_tensor(target, dtype=q.dtype, device=q.device)
     loss = y * (-(q * torch.log(q)) - (1 - q) * torch.log1p(-q) + (1 - q) * (-(torch.log(q) + q * (1 / q)) - (-torch.log1p(-q) + (1 - q) * (-1 / (1 - q))))) + (1 - y) * (-(q * torch.log(q)) - (1 - q) * torch.log1p(-q) - q * (-(torch.log(q) + q * (1 / q)) - (-torch.log1p(-q) + (1 - q) * (-1 / (1 - q)))))
     return _reduce(loss, weight, reduction)
@@ -80,7 +83,7 @@ def entropy(pred, target, weight=None, reduction="mean"):
 # input: pred holds probabilities q in [0, 1]
 # partial losses: y = 1: -ln(q); y = 0: -ln(1 - q)
 # clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (chosen for float32), because a singularity remains at q = 0 and q = 1
-def log_by_weight(pred, target, weight=None, reduction="mean"):
+def log_by_weight(pred, target, weight: typing.Optional[torch.Tensor] = None, reduction: str = "mean"):
     """Loss `log_by_weight`: per-sample y * l1(q) + (1 - y) * l0(q), optionally weighted, then reduced.
 
     pred: probabilities q in [0, 1] (clamped to the EPS bounds);
@@ -88,7 +91,7 @@ def log_by_weight(pred, target, weight=None, reduction="mean"):
     weight: optional per-sample weights, multiplied in before the reduction;
     reduction: "mean" (mean over samples of the weighted losses), "sum" or "none" (per-sample values).
     """
-    q = torch.clamp(torch.as_tensor(pred), min=EPS, max=1.0 - EPS)
+    q = torch.clamp(torch.as_tensor(pred), min=1e-7, max=1.0 - 1e-7)
     y = torch.as_tensor(target, dtype=q.dtype, device=q.device)
     loss = y * (-torch.log(q)) + (1 - y) * (-torch.log1p(-q))
     return _reduce(loss, weight, reduction)
@@ -105,7 +108,7 @@ def log_by_weight(pred, target, weight=None, reduction="mean"):
 # link: probabilities q map to scores by the implied link v = logit(q) (Reid & Williamson 2010, Cor. 14)
 # partial losses: y = 1: softplus(-v); y = 0: softplus(v)
 # clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (chosen for float32), because a singularity remains at q = 0 and q = 1
-def logistic(pred, target, weight=None, reduction="mean"):
+def logistic(pred, target, weight: typing.Optional[torch.Tensor] = None, reduction: str = "mean"):
     """Loss `logistic`: per-sample y * l1(q) + (1 - y) * l0(q), optionally weighted, then reduced.
 
     pred: probabilities q in [0, 1] (clamped to the EPS bounds);
@@ -113,7 +116,7 @@ def logistic(pred, target, weight=None, reduction="mean"):
     weight: optional per-sample weights, multiplied in before the reduction;
     reduction: "mean" (mean over samples of the weighted losses), "sum" or "none" (per-sample values).
     """
-    q = torch.clamp(torch.as_tensor(pred), min=EPS, max=1.0 - EPS)
+    q = torch.clamp(torch.as_tensor(pred), min=1e-7, max=1.0 - 1e-7)
     y = torch.as_tensor(target, dtype=q.dtype, device=q.device)
     loss = y * (-torch.log(q)) + (1 - y) * (-torch.log1p(-q))
     return _reduce(loss, weight, reduction)
@@ -130,7 +133,7 @@ def logistic(pred, target, weight=None, reduction="mean"):
 # link: probabilities q map to scores by the declared link v = logit(q)
 # partial losses: y = 1: softplus(-v); y = 0: softplus(v)
 # clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (chosen for float32), because a singularity remains at q = 0 and q = 1
-def logistic_scores(pred, target, weight=None, reduction="mean"):
+def logistic_scores(pred, target, weight: typing.Optional[torch.Tensor] = None, reduction: str = "mean"):
     """Loss `logistic_scores`: per-sample y * l1(q) + (1 - y) * l0(q), optionally weighted, then reduced.
 
     pred: probabilities q in [0, 1] (clamped to the EPS bounds);
@@ -138,7 +141,7 @@ def logistic_scores(pred, target, weight=None, reduction="mean"):
     weight: optional per-sample weights, multiplied in before the reduction;
     reduction: "mean" (mean over samples of the weighted losses), "sum" or "none" (per-sample values).
     """
-    q = torch.clamp(torch.as_tensor(pred), min=EPS, max=1.0 - EPS)
+    q = torch.clamp(torch.as_tensor(pred), min=1e-7, max=1.0 - 1e-7)
     y = torch.as_tensor(target, dtype=q.dtype, device=q.device)
     loss = y * (-torch.log(q)) + (1 - y) * (-torch.log1p(-q))
     return _reduce(loss, weight, reduction)
@@ -154,7 +157,7 @@ def logistic_scores(pred, target, weight=None, reduction="mean"):
 # input: pred holds probabilities q in [0, 1]
 # partial losses: y = 1: 1 - q / sqrt(q^2 + (1 - q)^2); y = 0: 1 - (1 - q) / sqrt(q^2 + (1 - q)^2)
 # clamping: none (finite on the whole input range)
-def spherical(pred, target, weight=None, reduction="mean"):
+def spherical(pred, target, weight: typing.Optional[torch.Tensor] = None, reduction: str = "mean"):
     """Loss `spherical`: per-sample y * l1(q) + (1 - y) * l0(q), optionally weighted, then reduced.
 
     pred: probabilities q in [0, 1];
@@ -178,7 +181,7 @@ def spherical(pred, target, weight=None, reduction="mean"):
 # input: pred holds probabilities q in [0, 1]
 # partial losses: y = 1: sqrt((1 - q) / q); y = 0: sqrt(q / (1 - q))
 # clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (chosen for float32), because a singularity remains at q = 0 and q = 1
-def boosting_canonical(pred, target, weight=None, reduction="mean"):
+def boosting_canonical(pred, target, weight: typing.Optional[torch.Tensor] = None, reduction: str = "mean"):
     """Loss `boosting_canonical`: per-sample y * l1(q) + (1 - y) * l0(q), optionally weighted, then reduced.
 
     pred: probabilities q in [0, 1] (clamped to the EPS bounds);
@@ -186,7 +189,7 @@ def boosting_canonical(pred, target, weight=None, reduction="mean"):
     weight: optional per-sample weights, multiplied in before the reduction;
     reduction: "mean" (mean over samples of the weighted losses), "sum" or "none" (per-sample values).
     """
-    q = torch.clamp(torch.as_tensor(pred), min=EPS, max=1.0 - EPS)
+    q = torch.clamp(torch.as_tensor(pred), min=1e-7, max=1.0 - 1e-7)
     y = torch.as_tensor(target, dtype=q.dtype, device=q.device)
     loss = y * torch.sqrt((1 - q) / q) + (1 - y) * torch.sqrt(q / (1 - q))
     return _reduce(loss, weight, reduction)
@@ -201,7 +204,7 @@ def boosting_canonical(pred, target, weight=None, reduction="mean"):
 # input: pred holds probabilities q in [0, 1]
 # partial losses: y = 1: if q < 0.3 then 0.7 else 0; y = 0: if q >= 0.3 then 0.3 else 0
 # clamping: none (finite on the whole input range)
-def cost_weighted(pred, target, weight=None, reduction="mean"):
+def cost_weighted(pred, target, weight: typing.Optional[torch.Tensor] = None, reduction: str = "mean"):
     """Loss `cost_weighted`: per-sample y * l1(q) + (1 - y) * l0(q), optionally weighted, then reduced.
 
     pred: probabilities q in [0, 1];
@@ -225,7 +228,7 @@ def cost_weighted(pred, target, weight=None, reduction="mean"):
 # input: pred holds probabilities q in [0, 1]
 # partial losses: y = 1: 2 * ((1 - q) * (1 - q)); y = 0: 2 * (q * q)
 # clamping: none (finite on the whole input range)
-def scaled_brier(pred, target, weight=None, reduction="mean"):
+def scaled_brier(pred, target, weight: typing.Optional[torch.Tensor] = None, reduction: str = "mean"):
     """Loss `scaled_brier`: per-sample y * l1(q) + (1 - y) * l0(q), optionally weighted, then reduced.
 
     pred: probabilities q in [0, 1];

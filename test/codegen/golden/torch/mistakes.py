@@ -2,14 +2,17 @@
 # Do not edit by hand: change the .loss file and regenerate.
 # Labels are y in {0, 1}; each function returns the reduced loss (or per-sample values with reduction="none").
 # PyTorch: differentiate with autograd (loss.backward()); pred and target are tensors of the same shape.
+# TorchScript: torch.jit.script accepts every function here (weight and reduction are annotated; clamping bounds are literals).
 # not generated: `typo`: the loss `typo` has errors; fix them first (run `propriety check`)
 # not generated: `wrong_scale`: the loss `wrong_scale` has errors; fix them first (run `propriety check`)
 # not generated: `half_done`: the loss `half_done` has errors; fix them first (run `propriety check`)
 # not generated: `out_of_range`: the loss `out_of_range` has errors; fix them first (run `propriety check`)
+import typing
+
 import torch
 
 
-def _reduce(loss, weight, reduction):
+def _reduce(loss: torch.Tensor, weight: typing.Optional[torch.Tensor], reduction: str) -> torch.Tensor:
     """Multiplies in the sample weights, then reduces: "mean", "sum" or "none"."""
     if weight is not None:
         loss = loss * weight
@@ -19,7 +22,7 @@ def _reduce(loss, weight, reduction):
         return loss.sum()
     if reduction == "none":
         return loss
-    raise ValueError(f"reduction must be \"mean\", \"sum\" or \"none\", not {reduction!r}")
+    raise ValueError("reduction must be \"mean\", \"sum\" or \"none\", not \"" + reduction + "\"")
 
 
 # loss `hinge_prob` from mistakes.loss (form: partial losses), generated as hinge_prob
@@ -32,7 +35,7 @@ def _reduce(loss, weight, reduction):
 # input: pred holds probabilities q in [0, 1]
 # partial losses: y = 1: 2 * (1 - q); y = 0: 2 * q
 # clamping: none (finite on the whole input range)
-def hinge_prob(pred, target, weight=None, reduction="mean"):
+def hinge_prob(pred, target, weight: typing.Optional[torch.Tensor] = None, reduction: str = "mean"):
     """Loss `hinge_prob`: per-sample y * l1(q) + (1 - y) * l0(q), optionally weighted, then reduced.
 
     pred: probabilities q in [0, 1];
@@ -56,7 +59,7 @@ def hinge_prob(pred, target, weight=None, reduction="mean"):
 # input: pred holds probabilities q in [0, 1]
 # partial losses: y = 1: (1 - q)^2; y = 0: q^2
 # clamping: none (finite on the whole input range)
-def wrong_bayes(pred, target, weight=None, reduction="mean"):
+def wrong_bayes(pred, target, weight: typing.Optional[torch.Tensor] = None, reduction: str = "mean"):
     """Loss `wrong_bayes`: per-sample y * l1(q) + (1 - y) * l0(q), optionally weighted, then reduced.
 
     pred: probabilities q in [0, 1];
