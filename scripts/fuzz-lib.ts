@@ -7,16 +7,15 @@
  *
  * The oracle. A Bayes risk H that is concave on (0, 1) defines a proper loss through the Savage form
  * l1 = H + (1 − q) H', l0 = H − q H', strictly proper when H is strictly concave, and its weight is
- * w = −H'' (Savage 1971, "Elicitation of personal probabilities and expectations", Sec. 5; Schervish 1989,
- * "A general method for comparing probability assessors", Thm 4.2; Buja, Stuetzle & Shen 2005,
- * "Loss functions for binary class probability estimation", Sec. 3 — weights as −H''). A positive
+ * w = −H'' (Savage 1971, "Elicitation of personal probabilities and expectations"; Schervish 1989,
+ * "A general method for comparing probability assessors"; Buja, Stuetzle & Shen 2005, "Loss functions for
+ * binary class probability estimation and classification" — weights as −H''; cited from memory). A positive
  * combination of concave functions is concave (common practice), strictly so when one term is. The terms
  * and their derivatives below are written out by hand (checked in test/fuzz.test.ts by central differences).
  * Improper variants add a known perturbation to a partial loss of a proper loss: a Gaussian bump or a
  * linear tilt g with g' ≠ 0 somewhere in (0, 1); at such an η, d/dq L(η, q) at q = η equals η g'(η) (or
- * (1 − η) g'(η)) ≠ 0, so q = η is not a minimiser of L(η, ·) and the loss is improper (first-order
- * condition of properness, Reid & Williamson 2010, "Composite binary losses", Thm 1 / Lemma on
- * stationarity).
+ * (1 − η) g'(η)) ≠ 0, so q = η is not a minimiser of L(η, ·) and the loss is improper (the first-order
+ * condition of properness, Reid & Williamson 2010, "Composite binary losses", Sec. 3, from memory).
  */
 import { seededRandom } from "../server/src/analysis/numeric/sampling.js";
 import { generate, TARGETS } from "../server/src/codegen/index.js";

@@ -4,8 +4,8 @@
  * function of (seed, index), and a bounded slice with a fixed seed runs through parse → analysis →
  * formatter → generation with no crash, no internal error, no formatter failure, no oracle disagreement and
  * no document over the time limit (measured in process; the CLI runner kills hung documents instead).
- * The oracle's truth: Savage 1971, Schervish 1989 Thm 4.2 and Reid & Williamson 2010 Thm 1, as cited in
- * scripts/fuzz-lib.ts.
+ * The oracle's truth: Savage 1971, Schervish 1989, Buja, Stuetzle & Shen 2005 and Reid & Williamson 2010,
+ * as cited in scripts/fuzz-lib.ts (from memory).
  */
 import { describe, expect, it } from "vitest";
 import { seededRandom } from "../server/src/analysis/numeric/sampling.js";
@@ -96,7 +96,7 @@ describe("fuzz documents", () => {
 
 describe("fuzz run of one document", () => {
   it("reports a verdict that differs from the expected one as a disagreement", () => {
-    // The Brier score is strictly proper (Brier 1950; Gneiting & Raftery 2007, Sec. 3): expecting "improper" must be flagged.
+    // The Brier score is strictly proper (Brier 1950, "Verification of forecasts expressed in terms of probability"; Gneiting & Raftery 2007, "Strictly proper scoring rules, prediction, and estimation"; from memory): expecting "improper" must be flagged.
     const text = "loss oracle {\n  l1(q) = (1 - q)^2\n  l0(q) = q^2\n}\n";
     const wrong = runDoc({ index: 0, kind: "oracle", text, expected: "improper", recipe: "test" });
     expect(wrong.verdict).toBe("strictly-proper");
