@@ -45,7 +45,8 @@ function workbench(page, wsDir) {
       await page.keyboard.press("Control+P");
       await quickInput().waitFor({ state: "visible", timeout: 15_000 });
       await quickInput().fill(name);
-      await quickRows().filter({ hasText: name }).first().waitFor({ timeout: 15_000 });
+      // The first search of a session waits for the file index (slow while extensions activate on a busy machine).
+      await quickRows().filter({ hasText: name }).first().waitFor({ timeout: 60_000 });
       await page.keyboard.press("Enter");
       await w.waitActiveTab(name);
       await w.focusEditor();
@@ -245,10 +246,17 @@ export const SCENARIOS = [
   },
   {
     name: "generate-code",
-    about: "Generate Code… asks for consent on an improper loss, then writes a file beside the .loss with the expected functions",
+    about: "Generate Code… asks consent for an improper loss, writes where the save dialog says (proposing the .loss file's folder), and remembers that folder for the workspace",
     async run({ page, w, shot, wsDir }) {
-      const out = path.join(wsDir, "e2e_numpy.py");
-      fs.rmSync(out, { force: true });
+      const folder = path.join(wsDir, "generated");
+      fs.rmSync(folder, { recursive: true, force: true });
+      fs.mkdirSync(folder);
+      const saveDialogValue = () => w.quickInput().inputValue();
+      /** Accepts the save dialog with its OK button once the path is in the box (Enter can be taken by the dialog's own completion). */
+      const acceptSaveDialog = async (file) => {
+        await until(async () => (await saveDialogValue()) === file, 10_000, `the save dialog to hold ${file}`);
+        await page.locator(".quick-input-widget .monaco-button", { hasText: /^OK$/ }).click();
+      };
       await w.showTab("e2e.loss");
       await w.runCommand("Propriety: Generate Code");
       await w.pickRow("NumPy");
@@ -260,16 +268,30 @@ export const SCENARIOS = [
       assert(/tilted_log/.test(question) && /improper/.test(question), `the consent dialog names the improper loss: ${question}`);
       await shot("consent");
       await dialog.locator(".monaco-button", { hasText: "Generate anyway" }).click();
-      // The save dialog proposes the file beside the .loss; accept it.
-      await until(async () => /e2e_numpy\.py/.test(await w.quickInput().inputValue()), 15_000, "the save dialog proposing e2e_numpy.py");
-      await page.keyboard.press("Enter");
+      // The save dialog proposes the file beside the .loss; the user puts it in generated/ instead.
+      const proposed = await until(async () => { const v = await saveDialogValue(); return /e2e_numpy\.py$/.test(v) ? v : null; }, 15_000, "the save dialog proposing e2e_numpy.py");
+      assert(path.dirname(proposed) === wsDir, `proposed beside e2e.loss: ${proposed}`);
+      const out = path.join(folder, "e2e_numpy.py");
+      await w.quickInput().fill(out);
+      await acceptSaveDialog(out);
       const code = await until(async () => (fs.existsSync(out) ? fs.readFileSync(out, "utf8") : null), 30_000, `${out} to be written`);
       assert(/^def my_brier\(pred, target, weight=None, reduction="mean"\):/m.test(code), "def my_brier(...) in the generated file");
       assert(/^def tilted_log\(/m.test(code) && /WARNING/.test(code), "the consented improper loss is generated with a WARNING");
       await w.waitActiveTab("e2e_numpy.py");
       await until(async () => (await w.visibleLines()).some((l) => l.startsWith("def ")), 15_000, "the generated file shown in an editor");
       await shot();
-      return `${code.split("\n").length} lines`;
+      // A second file of the same workspace (all its losses proper: no question): the dialog proposes the folder chosen last time.
+      await w.openFile("forms.loss");
+      await w.runCommand("Propriety: Generate Code");
+      await w.pickRow("TypeScript");
+      await w.pickRow("probabilities q");
+      const proposed2 = await until(async () => { const v = await saveDialogValue(); return /forms_ts\.ts$/.test(v) ? v : null; }, 30_000, "the save dialog proposing forms_ts.ts");
+      assert(proposed2 === path.join(folder, "forms_ts.ts"), `the remembered folder is proposed: ${proposed2}`);
+      await acceptSaveDialog(proposed2);
+      const ts = await until(async () => { const f = path.join(folder, "forms_ts.ts"); return fs.existsSync(f) ? fs.readFileSync(f, "utf8") : null; }, 30_000, "generated/forms_ts.ts to be written");
+      assert(/^export function halfBrier\(/m.test(ts), "export function halfBrier(...) in forms_ts.ts");
+      await w.waitActiveTab("forms_ts.ts");
+      return `generated/e2e_numpy.py ${code.split("\n").length} lines; generated/forms_ts.ts proposed from memory`;
     },
   },
   {
