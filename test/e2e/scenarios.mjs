@@ -193,12 +193,11 @@ export const SCENARIOS = [
   {
     name: "hover",
     about: "the hover of a proper loss shows its verdict, λ and both exponents",
-    async run({ w, shot, root }) {
+    async run({ w, shot }) {
       await w.showTab("e2e.loss");
       const text = await w.hover("my_brier", ["Verdict:", "strictly proper", "λ", "exponents", "via modulus", "direct"]);
       assert(/λ\*{0,2} \(inf of the weight w; strongly proper iff λ > 0\): 2\b/.test(text) || /λ.*: 2\b/.test(text), `λ = 2 for the Brier score in ${text.slice(0, 300)}`);
-      const file = await shot();
-      if (process.env.PROPRIETY_E2E_UPDATE_PICTURE === "1") fs.copyFileSync(file, path.join(root, "docs", "editor.png"));
+      await shot();
       await w.closeOverlays();
       return text.slice(0, 200);
     },
@@ -206,7 +205,7 @@ export const SCENARIOS = [
   {
     name: "code-lens-viewer",
     about: "a code lens over each loss; clicking one opens the curve viewer, whose charts are drawn in the webview",
-    async run({ page, w, shot }) {
+    async run({ w, shot, root }) {
       await w.showTab("e2e.loss");
       const lenses = w.activeEditor().locator(".codelens-decoration a");
       await until(async () => (await lenses.count()) >= 2, 60_000, "two code lenses in e2e.loss");
@@ -221,7 +220,9 @@ export const SCENARIOS = [
         const paths = await viewer.locator("#charts svg path, #charts svg polyline").count();
         return sizes.length >= 2 && sizes.every((a) => a > 1000) && paths > 0 ? { n: sizes.length, paths } : null;
       }, 30_000, "at least two drawn charts in the curve viewer");
-      await shot();
+      const file = await shot();
+      // The README's editor picture: squiggles, lenses, the status bar and the curve viewer of this run.
+      if (process.env.PROPRIETY_E2E_UPDATE_PICTURE === "1") fs.copyFileSync(file, path.join(root, "docs", "editor.png"));
       return `lenses ${JSON.stringify(texts)}; ${charts.n} charts, ${charts.paths} paths`;
     },
   },
