@@ -30,6 +30,10 @@ loss focal(g = 2 in [0, 5]) {
 loss arcsine {
   weight(q) = (q * (1 - q))^(-0.5)
 }
+loss cubic {
+  l1(q) = (1 - q)^3
+  l0(q) = q^3
+}
 `;
 
 function setup(): { dir: string; file: string } {
@@ -58,8 +62,10 @@ describe("propriety gen", () => {
     expect(io.err).toMatch(/skipped `arcsine`/);
     expect(fs.readFileSync(out, "utf8")).toContain("export function brier(");
     expect(fs.readdirSync(path.dirname(out))).toEqual(["desk_losses.ts"]);
-    // Without --allow-improper the focal loss is listed, not generated; the weight loss has a reason.
-    expect(fs.readFileSync(out, "utf8")).toMatch(/not generated: `focal`/);
+    // Without --allow-improper the improper loss without `expect improper` is listed, not generated; the
+    // focal loss says `expect improper`, which is consent; the weight loss has a reason.
+    expect(fs.readFileSync(out, "utf8")).toMatch(/not generated: `cubic`/);
+    expect(fs.readFileSync(out, "utf8")).toMatch(/^export function focal\(/m);
     expect(fs.readFileSync(out, "utf8")).toMatch(/not generated: `arcsine`: .*no closed-form integral/);
   });
 
@@ -67,7 +73,7 @@ describe("propriety gen", () => {
     const { dir, file } = setup();
     const out = path.join(dir, "focal.py");
     const io = captureIo();
-    expect(runGen(["--target", "torch", "--loss", "focal", "--out", out, file], io)).toBe(1);
+    expect(runGen(["--target", "torch", "--loss", "cubic", "--out", out, file], io)).toBe(1);
     expect(io.err).toMatch(/improper.*--allow-improper/);
     expect(fs.existsSync(out)).toBe(false);
     expect(runGen(["--target", "torch", "--loss", "focal", "--allow-improper", "--set", "g=1", "--out", out, file], io)).toBe(0);

@@ -207,11 +207,16 @@ loss brier {
 loss hinge {
   margin(v) = max(0, 1 - v)
 }
+loss focal_unclaimed(g = 2 in [0, 5]) {
+  l1(q) = -(1 - q)^g * ln(q)
+  l0(q) = -q^g * ln(1 - q)
+}
 `;
   const doc = analyseDocument(FLOOD);
 
   it("an improper loss is refused without allowImproper, and generated with a WARNING and a recovery map with it", () => {
-    const refused = generate(doc, { target: "numpy", loss: "focal" });
+    // Without consent: the loss does not say `expect improper` (that claim is consent, as in `check`).
+    const refused = generate(doc, { target: "numpy", loss: "focal_unclaimed" });
     expect(refused.ok).toBe(false);
     if (!refused.ok) expect(refused.message).toMatch(/--allow-improper/);
     const r = generate(doc, { target: "numpy", loss: "focal", allowImproper: true });
@@ -229,13 +234,15 @@ loss hinge {
     const r = generate(doc, { target: "ts", sourceName: "flood.loss" });
     expect(r.ok).toBe(true);
     if (!r.ok) return;
-    expect(r.code).toMatch(/not generated: `focal`: .*improper/);
+    expect(r.code).toMatch(/not generated: `focal_unclaimed`: .*improper/);
+    // `focal` says `expect improper`: generated, with its WARNING.
+    expect(r.code).toMatch(/^\/\/ WARNING: improper loss .*`expect improper`/m);
     expect(r.code).toMatch(/not generated: `hinge`: .*(improper|no implied link)/);
     expect(r.code).toContain("export function brier(");
     expect(r.fileName).toBe("flood_ts.ts");
   });
 
-  it("parameter overrides are baked in, range-checked, and the header says the engine figures are for the defaults", () => {
+  it("parameter overrides are baked in, range-checked, and the header's figures are re-analysed at the values baked in", () => {
     const r = lowerLoss(doc.losses[0]!, { allowImproper: true, overrides: { g: 1 } });
     expect(r.ok).toBe(true);
     if (r.ok) {
@@ -243,7 +250,7 @@ loss hinge {
       expect(r.loss.overridden).toBe(true);
     }
     const out = generate(doc, { target: "jax", loss: "focal", allowImproper: true, overrides: { g: 1 } });
-    expect(out.ok && out.code.includes("not re-analysed")).toBe(true);
+    expect(out.ok && out.code.includes("(re-analysed at the parameter values baked in)")).toBe(true);
     expect(lowerLoss(doc.losses[0]!, { allowImproper: true, overrides: { g: 7 } })).toEqual({ ok: false, message: expect.stringMatching(/outside its declared range/) });
     expect(generate(doc, { target: "jax", overrides: { nope: 1 } })).toEqual({ ok: false, message: expect.stringMatching(/unknown parameter `nope`/) });
   });

@@ -166,7 +166,9 @@ const REDUCE_GRAD = [
 export function pythonNames(losses: LoweredLoss[], sanitise: (n: string) => string): { fn: string; grad: string; recover: string }[] {
   const used = new Set<string>();
   return losses.map((l) => {
-    const make = (base: string) => ({ fn: base, grad: `${base}_grad`, recover: `${base}_recover_posterior` });
+    // The file's own recovery `def` (from the quick fix) keeps its name.
+    const own = l.recover?.userDef ? sanitise(l.recover.userDef) : null;
+    const make = (base: string) => ({ fn: base, grad: `${base}_grad`, recover: own && own !== base && own !== `${base}_grad` && !used.has(own) ? own : `${base}_recover_posterior` });
     // All three names must be free: a loss `a_grad` before a loss `a` must not give `a` the gradient's name.
     const free = (n: { fn: string; grad: string; recover: string }) => !used.has(n.fn) && !used.has(n.grad) && !used.has(n.recover);
     let names = make(sanitise(l.name));

@@ -206,7 +206,9 @@ export function emitTs(input: EmitInput): string {
     let fn = tsFunctionName(loss.name);
     for (let k = 2; taken.has(fn) || taken.has(`${fn}Grad`) || taken.has(`${fn}RecoverPosterior`); k++) fn = `${tsFunctionName(loss.name)}_${k}`;
     const grad = `${fn}Grad`;
-    const recover = `${fn}RecoverPosterior`;
+    // The file's own recovery `def` (from the quick fix) keeps its name.
+    const own = loss.recover?.userDef ? tsFunctionName(loss.recover.userDef) : null;
+    const recover = own && own !== fn && own !== grad && !taken.has(own) ? own : `${fn}RecoverPosterior`;
     taken.add(fn).add(grad).add(recover);
     const v = loss.variable;
     const sig = "pred: ArrayLike<number>, target: ArrayLike<number>";

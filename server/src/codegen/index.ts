@@ -2,7 +2,9 @@
  * Code generation entry point: an analysed document becomes a PyTorch, JAX, NumPy or TypeScript module
  * with one function per loss. Pure (no file system): the CLI writes the returned text.
  */
-import type { DocumentAnalysis } from "../pipeline/stages.js";
+import type { LossAnalysis } from "../analysis/analyse.js";
+import { createPipeline, type Pipeline } from "../pipeline/pipeline.js";
+import type { DocumentAnalysis, LossReport } from "../pipeline/stages.js";
 import { emitJax } from "./emit-jax.js";
 import { emitNumpy } from "./emit-numpy.js";
 import type { EmitInput } from "./emit-python-common.js";
@@ -65,15 +67,26 @@ export function generate(doc: DocumentAnalysis, options: GenerateOptions): Gener
     if (unknown.length > 0) {
       return { ok: false, message: `unknown parameter${unknown.length > 1 ? "s" : ""} ${unknown.map((u) => `\`${u}\``).join(", ")} (--set); the parameters are ${[...known].map((k) => `\`${k}\``).join(", ") || "none"}` };
     }
+    // Losses with overridden parameters are re-analysed at the values baked in (one pipeline, the document's settings).
+    let pipeline: Pipeline | null = null;
     const losses: LoweredLoss[] = [];
     const skipped: { name: string; reason: string }[] = [];
     for (const r of reports) {
       // Each loss gets only the overrides of the parameters it uses.
       const own = Object.fromEntries(Object.entries(overrides).filter(([k]) => r.compiled?.paramNames.includes(k)));
+      const differs = r.compiled?.family.params.some((p) => Object.prototype.hasOwnProperty.call(own, p.name) && own[p.name] !== p.default) ?? false;
+      let pinned: { analysis: LossAnalysis | null; reason: string | null } | undefined;
+      if (differs && inRange(r, own)) {
+        pipeline ??= createPipeline(doc.settings);
+        const at = pipeline.analyseAt(doc, r.info.name, own);
+        pinned = { analysis: at.analysis, reason: at.reason };
+      }
       const lowered = lowerLoss(r, {
         input: options.input ?? "prob",
         allowImproper: options.allowImproper ?? false,
         overrides: own,
+        defs: doc.model.defs,
+        ...(pinned ? { pinned } : {}),
         ...(options.link ? { link: options.link } : {}),
       });
       if (lowered.ok) losses.push(lowered.loss);
@@ -95,6 +108,14 @@ export function generate(doc: DocumentAnalysis, options: GenerateOptions): Gener
     // Emitters throw only on expressions the lowering should have refused; report instead of crashing.
     return { ok: false, message: `internal error in code generation: ${err instanceof Error ? err.message : String(err)}` };
   }
+}
+
+/** True when every overridden value lies in its declared range (the lowering refuses the others before any analysis). */
+function inRange(r: LossReport, own: Record<string, number>): boolean {
+  return (r.compiled?.family.params ?? []).every((p) => {
+    const v = own[p.name];
+    return v === undefined || (Number.isFinite(v) && (p.lo === undefined || v >= p.lo) && (p.hi === undefined || v <= p.hi));
+  });
 }
 
 function emit(target: Target, input: EmitInput): string {

@@ -25,6 +25,7 @@ import {
   call, dependsOn, differentiate, name, negate as neg, NotDifferentiable, num, op as bin, printExpr as printNotation, simplify, substitute,
 } from "../semantics/symbolic.js";
 import type { CompiledLoss } from "../semantics/family.js";
+import type { DefInfo } from "../semantics/model.js";
 import { logit, sigmoid } from "../semantics/builtins.js";
 import { rewriteStable, sameExpr } from "./rewrite.js";
 
@@ -54,6 +55,12 @@ export interface EngineFacts {
   improper: boolean;
   /** Why it is treated as improper, for the WARNING line. */
   improperReason: string | null;
+  /** True when the file says `expect improper` (consent to generate an improper loss, as `check` reads it). */
+  consented: boolean;
+  /** The `expect` claims the engine refutes, as its messages ("Claim "expect convex" fails: …"). */
+  failedClaims: string[];
+  /** Where the figures come from: the defaults (nothing overridden), the values baked in, or the defaults because re-analysis failed (with why). */
+  figuresAt: "defaults" | "baked" | { failed: string };
 }
 
 export interface LoweredLoss {
@@ -70,8 +77,11 @@ export interface LoweredLoss {
   dneg: Expr;
   /** Probability clamping where a singularity remains: bounds, or null for a side that needs none. */
   clamp: { lo: number | null; hi: number | null } | null;
-  /** The posterior-recovery map η(q) for improper losses (in q), with its own clamping. */
-  recover: { expr: Expr; clamp: { lo: number | null; hi: number | null } | null } | null;
+  /**
+   * The posterior-recovery map η(q) for improper losses (in q), with its own clamping; `userDef` names the
+   * file's own `def` of that map (inserted by the quick fix) when one agrees with the derived map.
+   */
+  recover: { expr: Expr; clamp: { lo: number | null; hi: number | null } | null; userDef: string | null } | null;
   /** Why no recovery map was generated for an improper loss (null when it was, or the loss is proper). */
   recoverNote: string | null;
   params: { name: string; value: number }[];
@@ -92,6 +102,13 @@ export interface LowerOptions {
   link?: "declared" | "canonical";
   allowImproper?: boolean;
   overrides?: Record<string, number>;
+  /**
+   * The engine's analysis at the overridden values (the pipeline's `analyseAt`), or `{ failed }` when it
+   * could not run; absent when nothing is overridden (the report's own analysis is at the defaults).
+   */
+  pinned?: { analysis: LossAnalysis | null; reason: string | null };
+  /** The file's helper definitions, to find the user's own recovery map (`def <loss>_recovery(q) = …`). */
+  defs?: ReadonlyMap<string, DefInfo>;
 }
 
 export type LowerResult = { ok: true; loss: LoweredLoss } | { ok: false; message: string };
@@ -121,8 +138,8 @@ function derivative(e: Expr, x: string, what: string): Expr {
   }
 }
 
-function engineFacts(report: LossReport): EngineFacts {
-  const a: LossAnalysis | null = report.analysis;
+function engineFacts(report: LossReport, pinned: LowerOptions["pinned"]): EngineFacts {
+  const a: LossAnalysis | null = pinned ? pinned.analysis : report.analysis;
   const claimsImproper = report.info.expects.some((x) => x.claim?.kind === "improper");
   const verdict = a?.verdict ?? "unknown";
   let improper = verdict === "improper";
@@ -139,6 +156,9 @@ function engineFacts(report: LossReport): EngineFacts {
     modulus: a?.modulus ?? null,
     improper,
     improperReason,
+    consented: claimsImproper,
+    failedClaims: (a?.findings ?? []).filter((f) => f.code === "expect-failed").map((f) => f.message),
+    figuresAt: !pinned ? "defaults" : pinned.analysis ? "baked" : { failed: pinned.reason ?? "the engine could not analyse it" },
   };
 }
 
@@ -259,11 +279,6 @@ function lower(report: LossReport, options: LowerOptions): LoweredLoss {
   }
   const form = info.form;
   const input: InputScale = options.input ?? "prob";
-  const engine = engineFacts(report);
-  if (engine.improper && !options.allowImproper) {
-    throw new Refusal(`the loss \`${info.name}\` is improper (${engine.improperReason}); its outputs are not calibrated probabilities. Generate it anyway with --allow-improper (a WARNING line and, where possible, a posterior-recovery function are added)`);
-  }
-
   // Parameters: defaults, then overrides (checked against the declared ranges).
   const overrides = options.overrides ?? {};
   const params: { name: string; value: number }[] = [];
@@ -282,6 +297,14 @@ function lower(report: LossReport, options: LowerOptions): LoweredLoss {
   const bindings = new Map(params.map((p) => [p.name, num(p.value)]));
   const bake = (e: Expr): Expr => simplify(substitute(e, bindings));
   const forms = compiled.forms;
+
+  // The engine's facts at the values baked in; an improper loss needs consent: --allow-improper, or the
+  // file's own `expect improper` (as `check` reads it).
+  const engine = engineFacts(report, overridden ? options.pinned : undefined);
+  if (engine.improper && !options.allowImproper && !engine.consented) {
+    const at = overridden ? ` at ${params.map((p) => `${p.name} = ${p.value}`).join(", ")}` : "";
+    throw new Refusal(`the loss \`${info.name}\` is improper${at} (${engine.improperReason}); its outputs are not calibrated probabilities. Generate it anyway with --allow-improper or by writing \`expect improper\` in the loss (a WARNING line and, where possible, a posterior-recovery function are added)`);
+  }
 
   const thresholdForm = forms.threshold;
   const threshold = thresholdForm ? evaluator(bake(thresholdForm.expr), "")(NaN) : 0.5;
@@ -402,8 +425,10 @@ function lower(report: LossReport, options: LowerOptions): LoweredLoss {
     } else {
       const d1 = rewriteStable(derivative(l1, "q", "l1"), "q");
       const d0 = rewriteStable(derivative(l0, "q", "l0"), "q");
-      const eta = rewriteStable(recoveryMap(d1, d0), "q");
-      recover = { expr: eta, clamp: singularSides([eta], "q") };
+      const derived = rewriteStable(recoveryMap(d1, d0), "q");
+      const own = userRecovery(info.name, derived, options.defs, bake);
+      const eta = own ? rewriteStable(own.body, "q") : derived;
+      recover = { expr: eta, clamp: singularSides([eta], "q"), userDef: own?.name ?? null };
     }
   }
 
@@ -412,6 +437,26 @@ function lower(report: LossReport, options: LowerOptions): LoweredLoss {
     params, overridden, threshold, linkNote, engine,
     formulaPos: printShort(l1), formulaNeg: printShort(l0),
   };
+}
+
+/** Probabilities at which the file's own recovery map must agree with the derived one. */
+const RECOVERY_CHECK_PROBS = [0.05, 0.2, 0.35, 0.5, 0.65, 0.8, 0.95];
+
+/**
+ * The file's own posterior-recovery map: a `def <loss>_recovery…(q, …)` as the quick fix inserts it
+ * (its further parameters are the loss's own, so baking the parameter values binds them), used when it
+ * agrees with the derived map at the check points to LINK_MATCH_TOL; null otherwise.
+ */
+function userRecovery(loss: string, derived: Expr, defs: ReadonlyMap<string, DefInfo> | undefined, bake: (e: Expr) => Expr): { name: string; body: Expr } | null {
+  if (!defs) return null;
+  const want = evaluator(derived, "q");
+  for (const [defName, def] of defs) {
+    if (!defName.startsWith(`${loss}_recovery`) || def.hasErrors || !def.decl.body || def.decl.params[0]?.name !== "q") continue;
+    const body = bake(def.decl.body);
+    const got = evaluator(body, "q");
+    if (RECOVERY_CHECK_PROBS.every((q) => Number.isFinite(want(q)) && nearlyEqual(got(q), want(q), LINK_MATCH_TOL, LINK_MATCH_TOL))) return { name: defName, body };
+  }
+  return null;
 }
 
 /** The weight w(q) of a loss on probabilities, numerically: −l1'(q)/(1−q) (RW10 Thm 1, Shuford et al. 1966), or the weight clause itself. */
@@ -449,10 +494,12 @@ export function lossHeaderLines(loss: LoweredLoss, source: string, functionName:
   if (e.improper) {
     lines.push(
       `WARNING: improper loss (${e.improperReason}): minimising it does not return calibrated probabilities.` +
-        (recoverName ? ` Map its predictions through ${recoverName}(q) to estimate the posterior.` : loss.recoverNote ? ` No recovery map: ${loss.recoverNote}.` : ""),
+        (e.consented ? " The file says `expect improper` (consent to generate it)." : "") +
+        (recoverName ? ` Map its predictions through ${recoverName}(q) to estimate the posterior${loss.recover?.userDef ? ` (the file's own \`def ${loss.recover.userDef}\`)` : ""}.` : loss.recoverNote ? ` No recovery map: ${loss.recoverNote}.` : ""),
     );
   }
-  const at = loss.overridden ? " (engine figures are for the parameter defaults; not re-analysed at the values baked in)" : "";
+  for (const c of e.failedClaims) lines.push(`FAILED CLAIM: ${c}`);
+  const at = e.figuresAt === "defaults" ? "" : e.figuresAt === "baked" ? " (re-analysed at the parameter values baked in)" : ` (re-analysis at the values baked in failed: ${e.figuresAt.failed}; no engine figures)`;
   lines.push(`verdict: ${verdictText(e.verdict)}${at}`);
   lines.push(`lambda (inf of the weight function): ${figure(e.lambda)}`);
   const x = e.exponents;

@@ -35,6 +35,7 @@ def _reduce_grad(grad, weight, reduction):
 
 # loss `hinge_prob` from mistakes.loss (form: partial losses), generated as hinge_prob
 # WARNING: improper loss (the engine's verdict is improper): minimising it does not return calibrated probabilities. No recovery map: the engine finds no posterior-recovery map (the risk minimiser q*(η) does not determine η).
+# FAILED CLAIM: Claim "expect strictly proper" fails: at η = 0.208955, q = 0 has risk 0.41791 < L(η, η) = 0.661172.
 # verdict: improper
 # lambda (inf of the weight function): not available
 # surrogate-regret exponents: via modulus not available; direct not available

@@ -98,7 +98,7 @@ def alert_focus(pred, target, weight: typing.Optional[torch.Tensor] = None, redu
 
 
 # loss `focal` from flood-desk.loss (form: partial losses), generated as focal
-# WARNING: improper loss (the engine's verdict is improper): minimising it does not return calibrated probabilities. Map its predictions through focal_recover_posterior(q) to estimate the posterior.
+# WARNING: improper loss (the engine's verdict is improper): minimising it does not return calibrated probabilities. The file says `expect improper` (consent to generate it). Map its predictions through focal_recover_posterior(q) to estimate the posterior.
 # verdict: improper
 # lambda (inf of the weight function): not available
 # surrogate-regret exponents: via modulus not available; direct not available
@@ -158,6 +158,7 @@ def boosted_exp(pred, target, weight: typing.Optional[torch.Tensor] = None, redu
 
 # loss `asymmetric` from flood-desk.loss (form: partial losses), generated as asymmetric
 # WARNING: improper loss (the engine's verdict is improper): minimising it does not return calibrated probabilities. Map its predictions through asymmetric_recover_posterior(q) to estimate the posterior.
+# FAILED CLAIM: Claim "expect proper" fails: at η = 0.522388, q = 0.421687 has risk 0.302104 < L(η, η) = 0.314666.
 # verdict: improper
 # lambda (inf of the weight function): not available
 # surrogate-regret exponents: via modulus not available; direct not available

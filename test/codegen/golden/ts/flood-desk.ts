@@ -162,7 +162,7 @@ export function alertFocusGrad(pred: ArrayLike<number>, target: ArrayLike<number
 }
 
 // loss `focal` from flood-desk.loss (form: partial losses), generated as focal
-// WARNING: improper loss (the engine's verdict is improper): minimising it does not return calibrated probabilities. Map its predictions through focalRecoverPosterior(q) to estimate the posterior.
+// WARNING: improper loss (the engine's verdict is improper): minimising it does not return calibrated probabilities. The file says `expect improper` (consent to generate it). Map its predictions through focalRecoverPosterior(q) to estimate the posterior.
 // verdict: improper
 // lambda (inf of the weight function): not available
 // surrogate-regret exponents: via modulus not available; direct not available
@@ -246,6 +246,7 @@ export function boostedExpGrad(pred: ArrayLike<number>, target: ArrayLike<number
 
 // loss `asymmetric` from flood-desk.loss (form: partial losses), generated as asymmetric
 // WARNING: improper loss (the engine's verdict is improper): minimising it does not return calibrated probabilities. Map its predictions through asymmetricRecoverPosterior(q) to estimate the posterior.
+// FAILED CLAIM: Claim "expect proper" fails: at η = 0.522388, q = 0.421687 has risk 0.302104 < L(η, η) = 0.314666.
 // verdict: improper
 // lambda (inf of the weight function): not available
 // surrogate-regret exponents: via modulus not available; direct not available
