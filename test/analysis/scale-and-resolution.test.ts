@@ -16,7 +16,8 @@ import { seededRandom } from "../../server/src/analysis/numeric/sampling.js";
 import { nearlyEqual } from "../../server/src/analysis/numeric/tolerance.js";
 import { analyseDocument } from "../../server/src/pipeline/pipeline.js";
 import type { LossSpec, RealFn } from "../../server/src/loss-model.js";
-import { BOOSTING, LOG_NATS, costWeighted, familyOf, focal, partials } from "./standard-losses.js";
+import { analyseFamily } from "../../server/src/analysis/analyse.js";
+import { BOOSTING, LOG_NATS, STANDARD_LOSSES, costWeighted, familyOf, focal, partials } from "./standard-losses.js";
 
 const sq = (x: number) => x * x;
 
@@ -29,9 +30,10 @@ function expectConfirmed(r: PropernessResult): void {
   expect(ce.riskAtQ).toBeLessThan(ce.riskAtEta);
 }
 
-/** A partials spec with every closure (and derivative) multiplied by c. */
+/** A partials (or weight) spec with every closure (and derivative) multiplied by c. */
 function scaled(spec: LossSpec, c: number): LossSpec {
   const times = (f: RealFn | undefined) => (f ? (q: number) => c * f(q) : undefined);
+  if (spec.form === "weight") return { ...spec, name: `${spec.name}×${c}`, weight: times(spec.weight)! };
   const out: LossSpec = { ...spec, name: `${spec.name}×${c}`, l1: times(spec.l1)!, l0: times(spec.l0)! };
   const d1 = times(spec.dl1);
   const d0 = times(spec.dl0);
@@ -182,5 +184,23 @@ describe("a positive verdict says what it rests on (verdict-evidence note)", () 
     const r = analyseProperness(familyOf(focal(2)));
     expect(r.evidence).toBeUndefined();
     expect(r.fns!.notes.some((n) => n.kind === "verdict-evidence")).toBe(false);
+  });
+});
+
+describe("λ = inf w scales with the loss: λ(cL) = c·λ(L), and λ = 0 stays 0, for c = 10^k, k ∈ [−20, 20]", () => {
+  const beta22 = STANDARD_LOSSES.find((r) => r.id === "10c Beta(2,2) weight")!.spec;
+  it.each([
+    { spec: BRIER, lambda: 2, source: "row L3: Agarwal 2014, JMLR 15, Table 1 (λ = 2)" },
+    { spec: LOG_NATS, lambda: 4, source: "row L1: Agarwal 2014, JMLR 15, Ex. 2 (λ = 4)" },
+    { spec: BOOSTING, lambda: 4, source: "row N3: Agarwal 2014, JMLR 15, Ex. 1 (λ = 4)" },
+    { spec: beta22, lambda: 0, source: "row L10c: w = q(1 − q) → 0 at the endpoints, λ = 0 approached there" },
+  ])("$spec.name: λ = $lambda ($source)", ({ spec, lambda, source }) => {
+    for (const k of [-20, -12, -9, -3, 0, 6, 20]) {
+      const c = 10 ** k;
+      const a = analyseFamily(familyOf(scaled(spec, c)));
+      expect(a.verdict, `${source}; ×1e${k}`).toBe("strictly-proper");
+      if (lambda === 0) expect(a.lambda, `${source}; ×1e${k}`).toBe(0);
+      else expect(Math.abs(a.lambda! / c - lambda), `${source}; ×1e${k}: λ = ${a.lambda}`).toBeLessThan(1e-6 * lambda);
+    }
   });
 });

@@ -11,7 +11,11 @@ import { fitPowerLawAtZero, type PowerLaw } from "./numeric/fits.js";
 import { shanksLimit } from "./numeric/extrapolation.js";
 import { numericWeight, type WeightFeatures } from "./weight-features.js";
 
-/** |λ| below this (relative to 1 + w(½)) is reported as 0: closed-form weights are exact to rounding, the endpoint extrapolation to ~1e-12. */
+/**
+ * |λ| below this (relative to the weight's own scale, `weightScale`) is reported as 0: closed-form weights
+ * are exact to rounding, the endpoint extrapolation to ~1e-12. A multiple cw of a weight gets the same
+ * decision (λ scales with the loss; Agarwal 2014, Def. 7).
+ */
 const LAMBDA_ZERO_TOL_CLOSURE = 1e-10;
 /** The same for weights from second differences of H, whose rounding is ≈ 4·ulp·|H|/h² ≈ 1e-7 at h = 1e-4. */
 const LAMBDA_ZERO_TOL_NUMERIC = 1e-6;
@@ -38,6 +42,16 @@ interface WeightSamples {
   vals: number[];
   nonFiniteAt: number | null;
   iMin: number;
+}
+
+/**
+ * The weight's own scale: the larger of |w(½)| and the median |w| over the samples (the median ignores the
+ * endpoint blow-up of w = 1/(q(1−q)) and sees a weight that vanishes at ½, such as 30|q − ½|⁴).
+ */
+function weightScale(s: WeightSamples, atHalf: number): number {
+  const mags = s.vals.filter((v) => Number.isFinite(v)).map((v) => Math.abs(v)).sort((a, b) => a - b);
+  const median = mags.length > 0 ? mags[mags.length >> 1]! : 0;
+  return Math.max(Number.isFinite(atHalf) ? atHalf : 0, median);
 }
 
 function sampleWeight(w: RealFn, numeric: boolean): WeightSamples {
@@ -118,8 +132,8 @@ function zeroReachesEndpoint(s: WeightSamples, at: LambdaAt, zeroTol: number): L
 /** w ~ A·t^k next to where λ = 0 sits (t the distance from there). */
 function vanishingOrderAt(w: RealFn, numeric: boolean, q0: number, typical: number): PowerLaw | null {
   const toward = q0 >= 1 ? (t: number) => w(1 - t) : q0 <= 0 ? (t: number) => w(t) : (t: number) => w(Math.min(1, q0 + t));
-  // Second differences of H carry ≈ 4·ulp·|H|/h² ≈ 1e-7 of rounding; below 1e-5·(1 + w(½)) they are noise.
-  return fitPowerLawAtZero(toward, numeric ? 1e-2 : 1e-3, 8, numeric ? 1e-5 * (1 + (Number.isFinite(typical) ? typical : 0)) : 0);
+  // Second differences of H carry ≈ 4·ulp·|H|/h² ≈ 1e-7 of rounding; below 1e-5 of the weight's scale they are noise.
+  return fitPowerLawAtZero(toward, numeric ? 1e-2 : 1e-3, 8, numeric ? 1e-5 * typical : 0);
 }
 
 /** λ = inf w on (0,1) with where it is attained or approached (Agarwal 2014 convention: λ = inf w, Thm 10). */
@@ -129,11 +143,11 @@ export function estimateLambda(w: RealFn, numeric: boolean, features: WeightFeat
   if (iMin < 0) return { lambda: null, at: null, vanishingOrder: null, negativeAt: null, nonFiniteAt, extremeAt: null };
   const qMin = s.grid[iMin]!;
   const extremeAt = qMin < 1e-4 || qMin > 1 - 1e-4 ? qMin : null;
-  const typical = Math.abs(w(0.5));
-  const zeroTol = (numeric ? LAMBDA_ZERO_TOL_NUMERIC : LAMBDA_ZERO_TOL_CLOSURE) * (1 + (Number.isFinite(typical) ? typical : 0));
+  const typical = weightScale(s, Math.abs(w(0.5)));
+  const zeroTol = (numeric ? LAMBDA_ZERO_TOL_NUMERIC : LAMBDA_ZERO_TOL_CLOSURE) * typical;
   const minVal = s.vals[iMin]!;
   // Ties (constant w, or a zero interval) prefer an interior point, the one nearest ½.
-  const tieTol = numeric ? zeroTol : 1e-9 * Math.abs(minVal) + 1e-12;
+  const tieTol = numeric ? zeroTol : 1e-9 * Math.abs(minVal) + 1e-12 * typical;
   const chosen = preferredMinimum(s, minVal, tieTol);
   let { lambda, at } = locateInfimum(w, numeric, features, s, chosen, zeroTol);
   let negativeAt: number | null = null;

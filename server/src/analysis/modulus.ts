@@ -17,16 +17,24 @@ import { boundedUnitFn } from "./numeric/limits.js";
 import { fitPowerLawAtZero, type PowerLaw } from "./numeric/fits.js";
 import { LowerEnvelope } from "./numeric/envelope.js";
 
+/**
+ * The scale of f for zero tests: max |f| on the grid. Rounding of f's values is a few ulps of it, and a
+ * multiple c·f (a loss scaled by c) gets the same decisions; an absolute floor of 1 did not. Never 0, so a
+ * tolerance that is a multiple of it stays a valid upper bound.
+ */
+export function gridScale(grid: { scale: number }): number {
+  return Math.max(grid.scale, Number.MIN_VALUE);
+}
 /** Default number of grid cells on [0,1] (N). 512 keeps the O(N²/4) grid scan well under 1 ms; exact values come from refinement, not from the grid. */
 export const MODULUS_GRID = 512;
 /**
- * A midpoint gap below ZERO_GAP_TOL·(1 + max|f|) is a candidate zero: the rounding of (f(a)+f(b))/2 − f(m)
+ * A midpoint gap below ZERO_GAP_TOL·max|f| is a candidate zero: the rounding of (f(a)+f(b))/2 − f(m)
  * is a few ulps of max|f| (≈ 1e-15 relative), and most strictly convex f of table L (test/reference/proper-losses.md) have gaps ≥ 1e-9
  * at the first grid width. Losses with a high-order zero of w at an endpoint (w ~ t³) fall below it, so a
  * vacuous stretch is only accepted when the gap at half its width is at the rounding level (ROUNDING_GAP_TOL).
  */
 export const ZERO_GAP_TOL = 1e-12;
-/** Gaps of an affine stretch are rounding only: (f(a)+f(b))/2 − f(m) with three rounded values is within ≈ 2–4 ulps of max|f|, i.e. 1e-15·(1 + max|f|). */
+/** Gaps of an affine stretch are rounding only: (f(a)+f(b))/2 − f(m) with three rounded values is within ≈ 2–4 ulps of max|f|, i.e. 1e-15·max|f|. */
 export const ROUNDING_GAP_TOL = 1e-15;
 /**
  * Golden-section tolerance on the midpoint (relative to 1 + |a| + |b|). The gap is flat at its minimum, so
@@ -137,7 +145,7 @@ export function buildModulusModel(fRaw: RealFn, gridIn?: UnitGrid, options?: Mod
   const { n, values: F } = grid;
   const f = grid.f;
   const half = n >> 1;
-  const zeroTol = ZERO_GAP_TOL * (1 + grid.scale);
+  const zeroTol = ZERO_GAP_TOL * gridScale(grid);
 
   // Grid gaps for every half-width j: the row minimum (an upper approximation of δ(2j/N)).
   const gridDelta = new Float64Array(half + 1);
@@ -215,11 +223,11 @@ export function buildModulusModel(fRaw: RealFn, gridIn?: UnitGrid, options?: Mod
     }
     // A genuine affine stretch gives gaps at the rounding level (a few ulps of max|f|); a tiny power law
     // (w ~ t^k with large k at an endpoint) gives gaps well above it at half the width, so it is not vacuous.
-    if (delta(a / 2) <= ROUNDING_GAP_TOL * (1 + grid.scale)) vacuousBelow = a;
+    if (delta(a / 2) <= ROUNDING_GAP_TOL * gridScale(grid)) vacuousBelow = a;
   }
 
   // Below ≈1e-10·(1 + max|f|) a gap carries a relative rounding error above 1e-6, which would bend the slopes.
-  const fitFloor = 1e-10 * (1 + grid.scale);
+  const fitFloor = 1e-10 * gridScale(grid);
   const nearZero = vacuousBelow === null ? fitPowerLawAtZero((e) => envelope.value(e), 0.05, 8, fitFloor) : null;
 
   function simonenko(t: number): number {

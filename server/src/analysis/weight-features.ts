@@ -8,7 +8,7 @@
  */
 import type { RealFn } from "../loss-model.js";
 import { goldenMin } from "./numeric/minimise.js";
-import { ROUNDING_GAP_TOL, type UnitGrid } from "./modulus.js";
+import { gridScale, ROUNDING_GAP_TOL, type UnitGrid } from "./modulus.js";
 
 /** A point mass of w at q (a kink of H: the jump of H' there is −mass). */
 export interface PointMass {
@@ -23,7 +23,7 @@ export interface WeightFeatures {
 }
 
 /**
- * A second difference of f on the grid below ZERO_CURVATURE_TOL·(1+max|f|) counts as zero curvature:
+ * A second difference of f on the grid below ZERO_CURVATURE_TOL·max|f| (`gridScale`) counts as zero curvature:
  * its rounding is ≈ 4N·ulp(max|f|) ≈ 5e-13·max|f| for N = 512, while w·h for the standard losses (test/analysis/standard-losses.ts) is ≥ 1e-7.
  */
 export const ZERO_CURVATURE_TOL = 1e-10;
@@ -146,7 +146,7 @@ function findZeroIntervals(grid: UnitGrid, curv: Float64Array, zeroTol: number, 
 
 /** The scan behind `detectWeightFeatures`; throws on failure (the curvature analysis reports it as an internal error). */
 export function scanWeightFeatures(grid: UnitGrid): WeightFeatures {
-  const scale = 1 + grid.scale;
+  const scale = gridScale(grid);
   const curv = secondDifferences(grid);
   const zeroTol = ZERO_CURVATURE_TOL * scale;
   const pointMasses = findPointMasses(grid, curv, zeroTol);
