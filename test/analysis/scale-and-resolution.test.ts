@@ -17,7 +17,7 @@ import { nearlyEqual } from "../../server/src/analysis/numeric/tolerance.js";
 import { analyseDocument } from "../../server/src/pipeline/pipeline.js";
 import type { LossSpec, RealFn } from "../../server/src/loss-model.js";
 import { analyseFamily } from "../../server/src/analysis/analyse.js";
-import { BOOSTING, LOG_NATS, STANDARD_LOSSES, costWeighted, familyOf, focal, partials } from "./standard-losses.js";
+import { BOOSTING, LOG_NATS, MARGIN_EXP, MARGIN_HINGE, MARGIN_LOGISTIC, MARGIN_SQUARED, STANDARD_LOSSES, costWeighted, familyOf, focal, partials } from "./standard-losses.js";
 
 const sq = (x: number) => x * x;
 
@@ -201,6 +201,33 @@ describe("λ = inf w scales with the loss: λ(cL) = c·λ(L), and λ = 0 stays 0
       expect(a.verdict, `${source}; ×1e${k}`).toBe("strictly-proper");
       if (lambda === 0) expect(a.lambda, `${source}; ×1e${k}`).toBe(0);
       else expect(Math.abs(a.lambda! / c - lambda), `${source}; ×1e${k}: λ = ${a.lambda}`).toBeLessThan(1e-6 * lambda);
+    }
+  });
+});
+
+describe("margin losses: verdict and findings unchanged under φ ↦ 10^k·φ, k ∈ [−20, 20]", () => {
+  /** The margin spec with φ and its derivatives multiplied by c. */
+  const scaledMargin = (spec: LossSpec, c: number): LossSpec => {
+    const out: LossSpec = { ...spec, name: `${spec.name}×${c}`, margin: (v) => c * spec.margin!(v) };
+    if (spec.dmargin) out.dmargin = (v) => c * spec.dmargin!(v);
+    if (spec.d2margin) out.d2margin = (v) => c * spec.d2margin!(v);
+    return out;
+  };
+  it.each([
+    // Rows of test/reference/proper-losses.md: K2 exponential = boosting (L8) with the half-logit link; K1 logistic = log loss
+    // (L1) with the logit; K3 squared = Agarwal's squared loss (L6) with the link 2q − 1; K5 hinge: no invertible link.
+    { spec: MARGIN_EXP, verdict: "strictly-proper" },
+    { spec: MARGIN_LOGISTIC, verdict: "strictly-proper" },
+    { spec: MARGIN_SQUARED, verdict: "strictly-proper" },
+    { spec: MARGIN_HINGE, verdict: "improper" },
+  ])("$spec.name", ({ spec, verdict }) => {
+    const base = analyseProperness(familyOf(spec));
+    expect(base.verdict).toBe(verdict);
+    const codes = (r: PropernessResult) => [...new Set(r.findings.map((f) => f.code))].sort();
+    for (const k of [-20, -9, -3, 3, 9, 20]) {
+      const r = analyseProperness(familyOf(scaledMargin(spec, 10 ** k)));
+      expect(r.verdict, `×1e${k}`).toBe(base.verdict);
+      expect(codes(r), `×1e${k}`).toEqual(codes(base));
     }
   });
 });

@@ -202,9 +202,11 @@ export function isDifferentiableAtZero(phi: RealFn): { differentiable: boolean; 
   const a = gapAt(h1);
   const b = gapAt(h2);
   if (!Number.isFinite(a.gap) || !Number.isFinite(b.gap)) return { differentiable: false, left: b.left, right: b.right };
-  const scale = Math.max(1, Math.abs(b.left), Math.abs(b.right));
-  // Rounding in the quotients is ~eps·|φ(0)|/h; gaps below that carry no information.
-  const noise = 1e-15 * Math.max(1, Math.abs(f0)) / h2;
+  // φ's own scale near 0 (max |φ| at −1, 0, 1) replaces an absolute floor of 1, so c·φ gets the same answer for every c > 0.
+  const phiScale = Math.max(...[f0, safeCall(phi, -1), safeCall(phi, 1)].map((x) => (Number.isFinite(x) ? Math.abs(x) : 0)), Number.MIN_VALUE);
+  const scale = Math.max(phiScale, Math.abs(b.left), Math.abs(b.right));
+  // Rounding in the quotients is ~eps·|φ|/h; gaps below that carry no information.
+  const noise = (1e-15 * phiScale) / h2;
   const differentiable = b.gap <= noise + 1e-9 * scale || b.gap * KINK_SHRINK <= a.gap;
   return { differentiable, left: b.left, right: b.right };
 }
