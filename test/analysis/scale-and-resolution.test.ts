@@ -176,8 +176,18 @@ describe("a positive verdict says what it rests on (verdict-evidence note)", () 
     expect(r.verdict).toBe("strictly-proper");
     expect(r.findings).toEqual([]);
     expect(r.evidence?.identity?.points).toBeGreaterThan(1000);
+    expect(r.evidence?.identity?.unexplainedAt).toBeNull();
     const note = r.fns!.notes.find((n) => n.kind === "verdict-evidence");
     expect(note?.text).toMatch(/No counterexample at resolution \d+ grid points; the stationarity identity/);
+  });
+
+  it("a violation of the identity that no descent confirms is named in the note, not hidden (bump 1e-10 high, 1e-5 wide at 0.50002)", () => {
+    // Improper in exact arithmetic (RW10, Thm 1), but the best gap (≈ 0.5·1e-10) is below the gap tolerance RISK_TOL_DIRECT × scale.
+    const r = analyseProperness(familyOf(bumpedBrier(1, 1e-10, 0.50002, 1e-5)));
+    expect(r.verdict).toBe("strictly-proper");
+    expect(Math.abs(r.evidence!.identity!.unexplainedAt! - 0.50002)).toBeLessThan(1e-4);
+    const note = r.fns!.notes.find((n) => n.kind === "verdict-evidence");
+    expect(note?.text).toMatch(/fails near q = 0\.5.*no descent from there beat the tolerance/);
   });
 
   it("an improper loss gets no verdict-evidence note (its verdict rests on a counterexample)", () => {

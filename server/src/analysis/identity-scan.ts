@@ -34,6 +34,12 @@ export const MAX_REFINED_CELLS = 8;
 export const REFINE_SAMPLES = 8;
 /** Refinement levels: each divides the bracket by (REFINE_SAMPLES + 1)/2, so 12 levels take a 1e-3 cell below 1e-9. */
 export const REFINE_LEVELS = 12;
+/**
+ * A relative residual (or negative w) above this with no confirmed descent is reported in the evidence
+ * as unexplained: well above rounding (IDENTITY_NOISE_TOL), so the identity does fail there, but the loss
+ * gains less than the gap tolerance by moving away from q = η (or the descent missed).
+ */
+export const IDENTITY_VIOLATION_TOL = 1e-6;
 /** Best points of the refinement tried as η of a descent (each costs two golden-section minimisations). */
 export const DESCENT_STARTS = 4;
 
@@ -46,6 +52,8 @@ export interface IdentityScan {
   refinedCells: number;
   /** η of confirmed descents (evidence for the stationarity finding). */
   slopePoints: number[];
+  /** Without a counterexample: the worst point where the identity or w ≥ 0 fails beyond IDENTITY_VIOLATION_TOL, else null. */
+  unexplainedAt: number | null;
   timedOut: boolean;
 }
 
@@ -94,23 +102,25 @@ export function identityScan(fns: LossFunctions, t: Table, deadline: Deadline): 
   };
   const probes = qs.map((q, i) => probe(q, raw[i]!));
   // Flag cells whose ends show a residual above rounding or between which the sign of w changes.
-  const flagged: { lo: number; hi: number; score: number }[] = [];
+  const flagged: { lo: number; hi: number; score: number; end: Probe }[] = [];
   for (let i = 0; i + 1 < probes.length; i++) {
     const a = probes[i];
     const b = probes[i + 1];
     if (!a || !b) continue;
     const score = Math.max(a.rel, b.rel);
     const signChange = a.s1 * b.s1 < 0 || a.s0 * b.s0 < 0;
-    if (score > IDENTITY_NOISE_TOL || signChange) flagged.push({ lo: a.q, hi: b.q, score: signChange ? Math.max(score, 1) : score });
+    const end = a.size >= b.size ? a : b;
+    if (score > IDENTITY_NOISE_TOL || signChange) flagged.push({ lo: a.q, hi: b.q, score: signChange ? Math.max(score, 1) : score, end });
   }
   flagged.sort((x, y) => y.score - x.score);
   const cells = flagged.slice(0, MAX_REFINED_CELLS);
   // Zoom into each flagged cell towards the point of the largest violation.
   const starts: Probe[] = [];
   for (let c = 0; c < cells.length; c++) {
-    if (deadline.expired()) return { counterexample: null, points, refinedCells: c, slopePoints: [], timedOut: true };
+    if (deadline.expired()) return { counterexample: null, points, refinedCells: c, slopePoints: [], unexplainedAt: null, timedOut: true };
     let { lo, hi } = cells[c]!;
-    let best: Probe | null = null;
+    // The worse end of the cell seeds the zoom: a narrow feature may sit in the next cell, seen only through its tail here.
+    let best: Probe | null = cells[c]!.end.rel > IDENTITY_NOISE_TOL ? cells[c]!.end : null;
     for (let level = 0; level < REFINE_LEVELS && hi - lo > 1e-12; level++) {
       const h = (hi - lo) / (REFINE_SAMPLES + 1);
       for (let k = 1; k <= REFINE_SAMPLES; k++) {
@@ -120,8 +130,9 @@ export function identityScan(fns: LossFunctions, t: Table, deadline: Deadline): 
         if (p && p.rel > IDENTITY_NOISE_TOL && (!best || p.size > best.size)) best = p;
       }
       if (!best) break;
-      lo = Math.max(lo, best.q - h);
-      hi = Math.min(hi, best.q + h);
+      // The next bracket: two sample spacings around the worst point so far, inside the scanned range (not the cell).
+      lo = Math.max(IDENTITY_EDGE, best.q - h);
+      hi = Math.min(1 - IDENTITY_EDGE, best.q + h);
     }
     if (best) starts.push(best);
   }
@@ -129,14 +140,16 @@ export function identityScan(fns: LossFunctions, t: Table, deadline: Deadline): 
   let counterexample: Counterexample | null = null;
   const slopePoints: number[] = [];
   for (let s = 0; s < Math.min(DESCENT_STARTS, starts.length); s++) {
-    if (deadline.expired()) return { counterexample, points, refinedCells: cells.length, slopePoints, timedOut: true };
+    if (deadline.expired()) return { counterexample, points, refinedCells: cells.length, slopePoints, unexplainedAt: null, timedOut: true };
     const c = descend(fns, t, starts[s]!.q);
     if (c) {
       slopePoints.push(c.eta);
       if (!counterexample || gapScore(c, t.scale) > gapScore(counterexample, t.scale)) counterexample = c;
     }
   }
-  return { counterexample, points, refinedCells: cells.length, slopePoints, timedOut: false };
+  const worst = starts[0];
+  const unexplainedAt = !counterexample && worst && worst.rel > IDENTITY_VIOLATION_TOL ? worst.q : null;
+  return { counterexample, points, refinedCells: cells.length, slopePoints, unexplainedAt, timedOut: false };
 }
 
 /** Radii of the descent from q = η: a grid cell (a narrow feature) and the search's neighbourhood. */

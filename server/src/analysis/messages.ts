@@ -236,9 +236,12 @@ export function counterexampleReason(ce: Counterexample | null): string {
  * The note beside a verdict found by sampling: no counterexample at the scan's resolution, and whether the
  * stationarity identity −l1'/(1−q) = l0'/q with w ≥ 0 (Reid & Williamson 2010, Thm 1) backed it.
  */
-export function samplingEvidenceNote(gridPoints: number, identity: { points: number; refinedCells: number } | null): string {
+export function samplingEvidenceNote(gridPoints: number, identity: { points: number; refinedCells: number; unexplainedAt: number | null } | null): string {
   const base = `No counterexample at resolution ${gridPoints} grid points`;
-  if (!identity) return `${base}; the derivatives are not closed forms, so this verdict rests on sampling alone (a feature narrower than the grid can go unseen).`;
+  if (!identity) return `${base}; the derivatives are not all closed forms, so this verdict rests on sampling alone (a feature narrower than the grid can go unseen).`;
   const refined = identity.refinedCells > 0 ? `, ${identity.refinedCells} cell${identity.refinedCells === 1 ? "" : "s"} refined` : "";
+  if (identity.unexplainedAt !== null) {
+    return `${base}; the stationarity identity −l1'(q)/(1−q) = l0'(q)/q with w ≥ 0 fails near q = ${fmt(identity.unexplainedAt)}, but no descent from there beat the tolerance (checked at ${identity.points} points${refined}).`;
+  }
   return `${base}; the stationarity identity −l1'(q)/(1−q) = l0'(q)/q with w ≥ 0 holds at ${identity.points} points (adaptive grid${refined}).`;
 }

@@ -37,7 +37,7 @@ export type PropernessVerdict = "strictly-proper" | "proper" | "improper" | "unk
 export interface SamplingEvidence {
   /** Points of the scan table (uniform, geometric near the endpoints, seeded random, around jumps). */
   gridPoints: number;
-  identity: { points: number; refinedCells: number } | null;
+  identity: { points: number; refinedCells: number; unexplainedAt: number | null } | null;
 }
 
 /** The outcome for one instance; `table` and `slopePoints` are kept for the recovery map and the evidence. */
@@ -152,7 +152,7 @@ export function analyseSpec(spec: LossSpec, deadline: Deadline, seed: number, re
   // No counterexample on the table: the derivative identities, refined where they fail, look between grid points.
   if (!ce && !timedOut && !s.nonFinite && exactDerivatives(spec)) {
     const id = identityScan(fns, table, deadline);
-    identity = { points: id.points, refinedCells: id.refinedCells };
+    identity = { points: id.points, refinedCells: id.refinedCells, unexplainedAt: id.unexplainedAt };
     timedOut = id.timedOut;
     if (id.counterexample) {
       ce = id.counterexample;
