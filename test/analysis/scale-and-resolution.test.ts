@@ -17,7 +17,7 @@ import { nearlyEqual } from "../../server/src/analysis/numeric/tolerance.js";
 import { analyseDocument } from "../../server/src/pipeline/pipeline.js";
 import type { LossSpec, RealFn } from "../../server/src/loss-model.js";
 import { analyseFamily } from "../../server/src/analysis/analyse.js";
-import { BOOSTING, LOG_NATS, MARGIN_EXP, MARGIN_HINGE, MARGIN_LOGISTIC, MARGIN_SQUARED, STANDARD_LOSSES, costWeighted, familyOf, focal, partials } from "./standard-losses.js";
+import { BOOSTING, LOG_NATS, MARGIN_EXP, weight, MARGIN_HINGE, MARGIN_LOGISTIC, MARGIN_SQUARED, STANDARD_LOSSES, costWeighted, familyOf, focal, partials } from "./standard-losses.js";
 
 const sq = (x: number) => x * x;
 
@@ -162,6 +162,20 @@ describe("narrow bumps at random centres are found where the derivatives reveal 
     // The counterexample points at the bump: η on its flank (a bump raises L near η) or q in it (a dip lowers L at q).
     const ce = r.counterexample!;
     expect(Math.min(Math.abs(ce.eta - c), Math.abs(ce.q - c))).toBeLessThan(10 * w);
+  });
+});
+
+describe("weight form: the sign of w on the refined grid finds a narrow negative dip", () => {
+  // w = 1 − 3·exp(−((q − c)/width)²) is negative on a stretch of width ≈ 2·width·√(ln 3) around c, so H is convex there
+  // and the loss is improper (Reid & Williamson 2010, Thm 6: proper iff w ≥ 0). The dips sit between points of the scan table.
+  it.each([
+    { c: 0.6211, width: 3e-4 },
+    { c: 0.2719, width: 1e-3 },
+  ])("dip at c = $c, width $width → improper, counterexample re-evaluated near the dip", ({ c, width }) => {
+    const r = analyseProperness(familyOf(weight("dip", (q) => 1 - 3 * Math.exp(-sq((q - c) / width)))));
+    expect(r.verdict).toBe("improper");
+    expectConfirmed(r);
+    expect(Math.abs(r.counterexample!.eta - c)).toBeLessThan(0.01);
   });
 });
 

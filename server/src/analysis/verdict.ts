@@ -55,11 +55,14 @@ export interface InstanceResult {
 
 /**
  * Whether the derivatives of the partial losses on q are closed forms (the user's or symbolic ones), so
- * the stationarity identity can back the verdict: partial losses with both derivatives, on q or on the
- * score (the link's derivative is a common factor of both ratios and cancels in the identity).
+ * the stationarity identity and the sign of w can back the verdict: partial losses with both derivatives,
+ * on q or on the score (the link's derivative is a common factor of both ratios and cancels in the
+ * identity), and every form whose weight is exact (a weight clause; a Bayes risk with H''), where the
+ * identity holds by construction and the check is the sign of w on the refined grid.
  */
-function exactDerivatives(spec: LossSpec): boolean {
-  return (spec.form === "partials" || spec.form === "score-partials") && !!spec.dl1 && !!spec.dl0;
+function exactDerivatives(spec: LossSpec, fns: LossFunctions): boolean {
+  if (spec.form === "partials" || spec.form === "score-partials") return !!spec.dl1 && !!spec.dl0;
+  return fns.weightExact === true && (spec.form === "weight" || spec.form === "bayes");
 }
 
 /** The first finding's message, for building "unknown" reasons. */
@@ -150,7 +153,7 @@ export function analyseSpec(spec: LossSpec, deadline: Deadline, seed: number, re
   let identity: SamplingEvidence["identity"] = null;
   let timedOut = s.timedOut;
   // No counterexample on the table: the derivative identities, refined where they fail, look between grid points.
-  if (!ce && !timedOut && !s.nonFinite && exactDerivatives(spec)) {
+  if (!ce && !timedOut && !s.nonFinite && exactDerivatives(spec, fns)) {
     const id = identityScan(fns, table, deadline);
     identity = { points: id.points, refinedCells: id.refinedCells, unexplainedAt: id.unexplainedAt };
     timedOut = id.timedOut;
