@@ -34,6 +34,8 @@ export const MAX_REFINED_CELLS = 8;
 export const REFINE_SAMPLES = 8;
 /** Refinement levels: each divides the bracket by (REFINE_SAMPLES + 1)/2, so 12 levels take a 1e-3 cell below 1e-9. */
 export const REFINE_LEVELS = 12;
+/** After this many levels a zoom whose worst point is still below IDENTITY_VIOLATION_TOL is following rounding, not a feature, and stops (a real feature's residual reaches O(1) within two or three levels). */
+export const NOISE_STOP_LEVEL = 3;
 /**
  * A relative residual (or negative w) above this with no confirmed descent is reported in the evidence
  * as unexplained: well above rounding (IDENTITY_NOISE_TOL), so the identity does fail there, but the loss
@@ -72,12 +74,20 @@ function ratios(fns: LossFunctions, q: number): [number, number] {
   return [-safeCall(fns.dl1, q) / (1 - q), safeCall(fns.dl0, q) / q];
 }
 
-/** The uniform derivative grid plus the table's interior points inside [IDENTITY_EDGE, 1 − IDENTITY_EDGE]. */
+/** The uniform derivative grid merged with the table's (sorted) points inside [IDENTITY_EDGE, 1 − IDENTITY_EDGE]. */
 function scanPoints(t: Table): number[] {
   const pts: number[] = [];
-  for (let i = 1; i < IDENTITY_SCAN_CELLS; i++) pts.push(i / IDENTITY_SCAN_CELLS);
-  for (const q of t.qs) if (q >= IDENTITY_EDGE && q <= 1 - IDENTITY_EDGE) pts.push(q);
-  return [...new Set(pts)].sort((a, b) => a - b);
+  let j = 0;
+  const push = (q: number) => {
+    if (pts.length === 0 || q > pts[pts.length - 1]!) pts.push(q);
+  };
+  for (let i = 1; i < IDENTITY_SCAN_CELLS; i++) {
+    const u = i / IDENTITY_SCAN_CELLS;
+    for (; j < t.qs.length && t.qs[j]! <= u; j++) if (t.qs[j]! >= IDENTITY_EDGE) push(t.qs[j]!);
+    push(u);
+  }
+  for (; j < t.qs.length; j++) if (t.qs[j]! <= 1 - IDENTITY_EDGE) push(t.qs[j]!);
+  return pts;
 }
 
 /**
@@ -88,7 +98,7 @@ export function identityScan(fns: LossFunctions, t: Table, deadline: Deadline): 
   const qs = scanPoints(t);
   const raw = qs.map((q) => ratios(fns, q));
   // The scan's own scale of w: the median |w| (robust to the endpoint blow-up of log loss's w = 1/(q(1−q))).
-  const mags = raw.map(([a, b]) => 0.5 * (Math.abs(a) + Math.abs(b))).filter((x) => Number.isFinite(x)).sort((a, b) => a - b);
+  const mags = Float64Array.from(raw.map(([a, b]) => 0.5 * (Math.abs(a) + Math.abs(b))).filter((x) => Number.isFinite(x))).sort();
   const wScale = mags.length > 0 ? mags[mags.length >> 1]! : 0;
   const floor = WEIGHT_FLOOR_REL * wScale;
   let points = qs.length;
@@ -129,19 +139,21 @@ export function identityScan(fns: LossFunctions, t: Table, deadline: Deadline): 
         const p = probe(q, ratios(fns, q));
         if (p && p.rel > IDENTITY_NOISE_TOL && (!best || p.size > best.size)) best = p;
       }
-      if (!best) break;
+      if (!best || (level + 1 >= NOISE_STOP_LEVEL && best.rel <= IDENTITY_VIOLATION_TOL)) break;
       // The next bracket: two sample spacings around the worst point so far, inside the scanned range (not the cell).
       lo = Math.max(IDENTITY_EDGE, best.q - h);
       hi = Math.min(1 - IDENTITY_EDGE, best.q + h);
     }
     if (best) starts.push(best);
   }
+  // Only violations beyond IDENTITY_VIOLATION_TOL are worth a descent: below it the slope at q = η gains ≈ (rel·w)²/(2w), far under the gap tolerance.
   starts.sort((x, y) => y.size - x.size);
+  const descents = starts.filter((p) => p.rel > IDENTITY_VIOLATION_TOL);
   let counterexample: Counterexample | null = null;
   const slopePoints: number[] = [];
-  for (let s = 0; s < Math.min(DESCENT_STARTS, starts.length); s++) {
+  for (let s = 0; s < Math.min(DESCENT_STARTS, descents.length); s++) {
     if (deadline.expired()) return { counterexample, points, refinedCells: cells.length, slopePoints, unexplainedAt: null, timedOut: true };
-    const c = descend(fns, t, starts[s]!.q);
+    const c = descend(fns, t, descents[s]!.q);
     if (c) {
       slopePoints.push(c.eta);
       if (!counterexample || gapScore(c, t.scale) > gapScore(counterexample, t.scale)) counterexample = c;
