@@ -34,6 +34,16 @@ const SIMPLE: Record<string, string> = {
   tan: "tan", sinh: "sinh", cosh: "cosh", tanh: "tanh", log1p: "log1p", expm1: "expm1",
 };
 
+/**
+ * log Φ (the log-CDF pass of rewrite.ts) where the library has it: torch.special.log_ndtr and
+ * jax.scipy.special.log_ndtr follow the asymptotic tail (Abramowitz & Stegun 1964, 26.2.12); NumPy has
+ * none, so its emitter supplies a helper.
+ */
+const LOG_NDTR: Record<string, Record<string, Spelling>> = {
+  torch: { lognormcdf: "torch.special.log_ndtr" },
+  jnp: { lognormcdf: { print: ([a]) => `jax.scipy.special.log_ndtr(${a})`, helpers: ["jax.scipy.special"] } },
+};
+
 /** The printer's dialect for one array library: `**`, elementwise logical functions and select, `<lib>.<name>` calls. */
 export function pythonDialect(l: PyLibrary): PyDialect {
   return {
@@ -44,7 +54,7 @@ export function pythonDialect(l: PyLibrary): PyDialect {
     logic: { kind: "function", and: `${l.lib}.logical_and`, or: `${l.lib}.logical_or`, not: `${l.lib}.logical_not` },
     conditional: l.where,
     prefixOperand: PREC.unary,
-    calls: { ...Object.fromEntries(Object.entries(SIMPLE).map(([k, v]) => [k, `${l.lib}.${v}`])), ...l.calls },
+    calls: { ...Object.fromEntries(Object.entries(SIMPLE).map(([k, v]) => [k, `${l.lib}.${v}`])), ...LOG_NDTR[l.lib], ...l.calls },
   };
 }
 
@@ -83,9 +93,18 @@ export function lossDocstring(loss: LoweredLoss, clamped: boolean): string[] {
     `    """Loss \`${loss.name}\`: per-sample y * l1(${v}) + (1 - y) * l0(${v}), optionally weighted, then reduced.`,
     "",
     `    pred: ${loss.input === "prob" ? `probabilities q in [0, 1]${clamped ? " (clamped to the EPS bounds)" : ""}` : "scores v"};`,
+
     "    target: labels y in {0, 1} (values in between give the expected loss under P(y = 1) = target);",
     "    weight: optional per-sample weights, multiplied in before the reduction;",
     '    reduction: "mean" (mean over samples of the weighted losses), "sum" or "none" (per-sample values).',
+    ...(clamped
+      ? [
+          "",
+          "    The clamp is flat outside the EPS bounds: where pred lies outside them (q = 0 or 1 exactly included)",
+          "    the gradient is exactly 0, so a prediction stuck at 0 or 1 gets no signal. Feed probabilities from a",
+          "    sigmoid (strictly inside (0, 1)), or generate with --input score.",
+        ]
+      : []),
     '    """',
   ];
 }
@@ -128,6 +147,8 @@ export interface PyTarget {
   helperImports?: Record<string, string[]>;
   /** Emit `<name>_grad` functions (closed-form gradients in pred). */
   gradients: boolean;
+  /** Module-level definitions every module of the target needs (printed after EPS, before the helpers). */
+  preamble?: string[];
   /** The loss functions' parameter list (default `pred, target, weight=None, reduction="mean"`), e.g. with annotations. */
   signature?: string;
   /** The module's `_reduce` source (default REDUCE). */
@@ -245,9 +266,14 @@ export function emitPythonModule(input: EmitInput, t: PyTarget, sanitise: (n: st
   // Standard-library imports first, then the array library (PEP 8 grouping).
   lines.push(...stdlib, ...(stdlib.length > 0 ? [""] : []), ...t.imports, ...library, "");
   if (needsEps) {
-    lines.push(...pyComment([`Clamping bound for probabilities where a singularity remains: 1e-7 suits float32 (machine epsilon 1.19e-7),`, "so 1 - EPS is still below 1 and the logarithms stay finite."]));
+    lines.push(...pyComment([
+      `Clamping bound for probabilities where a singularity remains, for float32 and float64 input alike: 1e-7 is`,
+      "above float32's machine epsilon 1.19e-7 / 2, so 1 - EPS rounds below 1 in float32 (0.99999988) and in float64,",
+      "and the logarithms stay finite in both dtypes (float64 alone could go down to about 1e-15).",
+    ]));
     lines.push(`EPS = ${pyNumber(CLAMP_EPS_VALUE)}`, "");
   }
+  if (t.preamble) lines.push("", ...t.preamble, "");
   for (const h of Object.keys(t.helperSources)) if (used.has(h)) lines.push("", ...t.helperSources[h]!, "");
   lines.push("", ...(t.reduce ?? REDUCE), "");
   if (t.gradients) lines.push("", ...REDUCE_GRAD, "");

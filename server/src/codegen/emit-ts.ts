@@ -42,6 +42,7 @@ export const TS_DIALECT: Dialect = {
     erf: helperCall("erf", ["erf", "erfc"]),
     normcdf: helperCall("normcdf", ["normcdf", "erf", "erfc"]),
     probit: helperCall("probit", ["probit", "erf", "erfc", "normcdf"]),
+    lognormcdf: helperCall("lognormcdf", ["lognormcdf", "logErfc", "erf", "erfc"]),
   },
 };
 
@@ -114,6 +115,36 @@ const HELPERS: Record<string, string[]> = {
     "  return t >= 0.5 ? 0.5 * erfc(t) : 0.5 * (1 - erf(t));",
     "}",
   ],
+  logErfc: [
+    "/** ln erfc(x) for x >= 0.5 without underflow: -x^2 - ln(sqrt(pi)) - ln(f), f the continued fraction of erfc (A&S 1964, 7.1.14). */",
+    "function logErfc(x: number): number {",
+    "  const tiny = 1e-300;",
+    "  let f = x;",
+    "  let c = x;",
+    "  let d = 0;",
+    "  for (let n = 1; n < 500; n++) {",
+    "    const a = n / 2;",
+    "    d = x + a * d;",
+    "    d = Math.abs(d) < tiny ? tiny : d;",
+    "    c = x + a / c;",
+    "    c = Math.abs(c) < tiny ? tiny : c;",
+    "    d = 1 / d;",
+    "    const delta = c * d;",
+    "    f *= delta;",
+    "    if (Math.abs(delta - 1) < 1e-16) break;",
+    "  }",
+    "  return -x * x - 0.5 * Math.log(Math.PI) - Math.log(f);",
+    "}",
+  ],
+  lognormcdf: [
+    "/** ln Phi(x) without underflow: ln(erfc(t)/2) with t = -x/sqrt(2) through logErfc in the lower tail (A&S 1964, 26.2.29), log1p(-Phi(-x)) above. */",
+    "function lognormcdf(x: number): number {",
+    "  const t = -x / Math.SQRT2;",
+    "  if (t >= 0.5) return logErfc(t) - Math.LN2;",
+    "  const u = x / Math.SQRT2;",
+    "  return Math.log1p(-0.5 * (u >= 0.5 ? erfc(u) : 1 - erf(u)));",
+    "}",
+  ],
   probit: [
     "/** Inverse normal CDF: Acklam's rational approximation refined by one Halley step. */",
     "function probit(p: number): number {",
@@ -140,7 +171,7 @@ const HELPERS: Record<string, string[]> = {
   ],
 };
 
-const HELPER_ORDER = ["softplus", "sigmoid", "erfc", "erf", "normcdf", "probit"];
+const HELPER_ORDER = ["softplus", "sigmoid", "erfc", "erf", "normcdf", "probit", "logErfc", "lognormcdf"];
 
 const PRELUDE = [
   "/** How per-sample values are combined: the mean (default), the sum, or none (per-sample values). */",
@@ -263,7 +294,7 @@ export function emitTs(input: EmitInput): string {
     "",
   ];
   if (needsEps) {
-    lines.push("/** Clamping bound for probabilities where a singularity remains: 1e-7 suits float32 (machine epsilon 1.19e-7). */");
+    lines.push("/** Clamping bound for probabilities where a singularity remains (numbers are float64 here; 1e-7 matches the Python targets, where it also suits float32). */");
     lines.push(`const EPS = ${tsNumber(CLAMP_EPS)};`, "");
   }
   for (const h of HELPER_ORDER) if (used.has(h)) lines.push(...HELPERS[h]!, "");

@@ -27,7 +27,7 @@ import {
 import type { CompiledLoss } from "../semantics/family.js";
 import type { DefInfo } from "../semantics/model.js";
 import { logit, sigmoid } from "../semantics/builtins.js";
-import { rewriteStable, sameExpr } from "./rewrite.js";
+import { rewriteLogCdf, rewriteStable, sameExpr } from "./rewrite.js";
 
 /**
  * Clamping bound for probabilities where a singularity remains after the stable rewrites. 1e-7 is the
@@ -405,6 +405,10 @@ function lower(report: LossReport, options: LowerOptions): LoweredLoss {
   const dpos = rewriteStable(derivative(pos, variable, "the loss for y = 1"), variable);
   const dneg = rewriteStable(derivative(negE, variable, "the loss for y = 0"), variable);
   const clamp = input === "prob" ? singularSides([pos, negE, dpos, dneg], "q") : null;
+  // log Φ last: the clamping probe and the derivatives above read the notation's own functions.
+  pos = rewriteLogCdf(pos);
+  negE = rewriteLogCdf(negE);
+  const [dposOut, dnegOut] = [rewriteLogCdf(dpos), rewriteLogCdf(dneg)];
 
   // Posterior recovery (RW10 Cor. 12): η = l0'(q)/(l0'(q) − l1'(q)), for improper losses on probabilities.
   let recover: LoweredLoss["recover"] = null;
@@ -433,7 +437,7 @@ function lower(report: LossReport, options: LowerOptions): LoweredLoss {
   }
 
   return {
-    name: info.name, form, input, variable, pos, neg: negE, dpos, dneg, clamp, recover, recoverNote,
+    name: info.name, form, input, variable, pos, neg: negE, dpos: dposOut, dneg: dnegOut, clamp, recover, recoverNote,
     params, overridden, threshold, linkNote, engine,
     formulaPos: printShort(l1), formulaNeg: printShort(l0),
   };
@@ -519,7 +523,7 @@ export function clampText(clamp: LoweredLoss["clamp"], variable: string): string
   if (!clamp) return "none (finite on the whole input range)";
   const sides = clamp.lo !== null && clamp.hi !== null ? `[EPS, 1 - EPS]` : clamp.lo !== null ? `[EPS, 1]` : `[0, 1 - EPS]`;
   const where = [clamp.lo !== null ? `${variable} = 0` : null, clamp.hi !== null ? `${variable} = 1` : null].filter((s) => s !== null).join(" and ");
-  return `${variable} clamped to ${sides}, EPS = ${CLAMP_EPS} (chosen for float32), because a singularity remains at ${where}`;
+  return `${variable} clamped to ${sides}, EPS = ${CLAMP_EPS} (float32 and float64 alike: 1 - EPS < 1 in both), because a singularity remains at ${where}; the gradient is 0 outside the bounds`;
 }
 
 const FORM_TEXT: Record<DefinitionForm, string> = {

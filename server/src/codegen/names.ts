@@ -27,7 +27,8 @@ const PYTHON_RESERVED = new Set([
   "np", "numpy", "torch", "F", "jax", "jnp", "math", "statistics", "EPS", "pred", "target", "weight", "reduction",
   "loss", "grad", "q", "v", "y", "raw", "inv", "u",
   // The module's own helpers (emit-python-common.ts, emit-numpy.ts): a loss of that name would replace them.
-  "_reduce", "_reduce_grad", "_sigmoid", "_erf", "_erfc", "_erfcx", "_normcdf", "_lognormcdf", "_probit", "_as_float", "_eps",
+  "_reduce", "_reduce_grad", "_sigmoid", "_erf", "_erfc", "_erfcx", "_normcdf", "_lognormcdf", "_probit", "_as_float", "_eps", "_erf_small", "_exp_neg_sq",
+  "_CODY_A", "_CODY_B", "_CODY_C", "_CODY_D", "_CODY_P", "_CODY_Q",
 ]);
 
 /** ECMAScript reserved words, strict-mode reserved words and TypeScript's contextual type keywords. */

@@ -9,7 +9,12 @@
  * - ln(1 ± x) → log1p(±x);  exp(x) − 1 → expm1(x);  ln(exp(x)) → x;
  * - 1/(1 + exp(u)) → sigmoid(−u);  exp(u)/(1 + exp(u)) → sigmoid(u);  sigmoid(−x)/sigmoid(x) → exp(−x);
  * - ln(u/(1 − u)) → logit(u);  sigmoid(logit(u)) → u;  logit(sigmoid(x)) → x;
- * - softplus(−logit(q)) → −ln(q);  softplus(logit(q)) → −log1p(−q).
+ * - softplus(−logit(q)) → −ln(q);  softplus(logit(q)) → −log1p(−q);  normcdf(probit(u)) → u.
+ *
+ * A last pass (`rewriteLogCdf`, after differentiation, since the notation has no log Φ) writes
+ * ln(normcdf(x)) as lognormcdf(x) and a ratio a·e^u/normcdf(x) as a·e^(u − lognormcdf(x)), so probit
+ * scores stay finite where Φ underflows (Φ(−40) ≈ 4e-350): log Φ(x) ~ −x²/2 − ln(−x√(2π)) as x → −∞
+ * (Abramowitz & Stegun 1964, 26.2.12), which the targets' log-CDF functions follow.
  *
  * Sub-expressions without the variable are folded to numbers (parameters are baked in before this).
  * Clamping to [ε, 1−ε] is decided later, by the lowering, only where a singularity survives these rules.
@@ -116,6 +121,7 @@ function rewriteRoot(e: Expr): Expr | null {
       return null;
     }
     if (f === "sigmoid" && isCall(a, "logit")) return arg0(a);
+    if (f === "normcdf" && isCall(a, "probit")) return arg0(a);
     if (f === "logit" && isCall(a, "sigmoid")) return arg0(a);
     if (f === "softplus") {
       if (isCall(a, "logit")) return neg(call("log1p", negate(arg0(a))));
@@ -197,4 +203,60 @@ export function rewriteStable(e: Expr, variable: string): Expr {
     prev = k;
   }
   return cur;
+}
+
+/** `x·e^u` (through minus signs, products and numerators) with e^u replaced by e^(u − lognormcdf(c)); null without an exp factor. */
+function absorbExp(e: Expr, c: Expr): Expr | null {
+  while (e.kind === "paren") e = e.inner;
+  if (isCall(e, "exp")) return call("exp", bin("-", arg0(e), call("lognormcdf", c)));
+  if (e.kind === "unary" && e.op === "-") {
+    const r = absorbExp(e.operand, c);
+    return r ? neg(r) : null;
+  }
+  if (e.kind === "binary" && e.op === "*") {
+    const l = absorbExp(e.left, c);
+    if (l) return bin("*", l, e.right);
+    const r = absorbExp(e.right, c);
+    return r ? bin("*", e.left, r) : null;
+  }
+  if (e.kind === "binary" && e.op === "/") {
+    const l = absorbExp(e.left, c);
+    return l ? bin("/", l, e.right) : null;
+  }
+  return null;
+}
+
+function logCdfOnce(e: Expr): Expr {
+  let out: Expr;
+  switch (e.kind) {
+    case "paren":
+      return logCdfOnce(e.inner);
+    case "unary":
+      out = { ...e, operand: logCdfOnce(e.operand) };
+      break;
+    case "binary":
+      out = { ...e, left: logCdfOnce(e.left), right: logCdfOnce(e.right) };
+      break;
+    case "if":
+      out = { ...e, cond: logCdfOnce(e.cond), then: logCdfOnce(e.then), else: logCdfOnce(e.else) };
+      break;
+    case "call":
+      out = { ...e, args: e.args.map(logCdfOnce) };
+      break;
+    default:
+      return e;
+  }
+  if (out.kind === "call" && (out.callee === "ln" || out.callee === "log") && out.args.length === 1 && isCall(out.args[0]!, "normcdf")) {
+    return call("lognormcdf", arg0(out.args[0]!));
+  }
+  if (out.kind === "binary" && out.op === "/" && isCall(out.right, "normcdf")) {
+    const r = absorbExp(out.left, arg0(out.right));
+    if (r) return r;
+  }
+  return out;
+}
+
+/** The log-CDF pass (see the module comment): applied to the final loss and gradient expressions. */
+export function rewriteLogCdf(e: Expr): Expr {
+  return simplify(logCdfOnce(e));
 }

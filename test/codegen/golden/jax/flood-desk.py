@@ -5,8 +5,9 @@
 import jax
 import jax.numpy as jnp
 
-# Clamping bound for probabilities where a singularity remains: 1e-7 suits float32 (machine epsilon 1.19e-7),
-# so 1 - EPS is still below 1 and the logarithms stay finite.
+# Clamping bound for probabilities where a singularity remains, for float32 and float64 input alike: 1e-7 is
+# above float32's machine epsilon 1.19e-7 / 2, so 1 - EPS rounds below 1 in float32 (0.99999988) and in float64,
+# and the logarithms stay finite in both dtypes (float64 alone could go down to about 1e-15).
 EPS = 1e-7
 
 
@@ -32,7 +33,7 @@ def _reduce(loss, weight, reduction):
 # decision threshold: 0.2
 # input: pred holds probabilities q in [0, 1]
 # partial losses: y = 1: -ln(q); y = 0: -ln(1 - q)
-# clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (chosen for float32), because a singularity remains at q = 0 and q = 1
+# clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (float32 and float64 alike: 1 - EPS < 1 in both), because a singularity remains at q = 0 and q = 1; the gradient is 0 outside the bounds
 def log_loss(pred, target, weight=None, reduction="mean"):
     """Loss `log_loss`: per-sample y * l1(q) + (1 - y) * l0(q), optionally weighted, then reduced.
 
@@ -40,6 +41,10 @@ def log_loss(pred, target, weight=None, reduction="mean"):
     target: labels y in {0, 1} (values in between give the expected loss under P(y = 1) = target);
     weight: optional per-sample weights, multiplied in before the reduction;
     reduction: "mean" (mean over samples of the weighted losses), "sum" or "none" (per-sample values).
+
+    The clamp is flat outside the EPS bounds: where pred lies outside them (q = 0 or 1 exactly included)
+    the gradient is exactly 0, so a prediction stuck at 0 or 1 gets no signal. Feed probabilities from a
+    sigmoid (strictly inside (0, 1)), or generate with --input score.
     """
     q = jnp.clip(jnp.asarray(pred), EPS, 1.0 - EPS)
     y = jnp.asarray(target, dtype=q.dtype)
@@ -104,7 +109,7 @@ def alert_focus(pred, target, weight=None, reduction="mean"):
 # decision threshold: 0.2
 # input: pred holds probabilities q in [0, 1]
 # partial losses: y = 1: -((1 - q)^2 * ln(q)); y = 0: -(q^2 * ln(1 - q))
-# clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (chosen for float32), because a singularity remains at q = 0 and q = 1
+# clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (float32 and float64 alike: 1 - EPS < 1 in both), because a singularity remains at q = 0 and q = 1; the gradient is 0 outside the bounds
 def focal(pred, target, weight=None, reduction="mean"):
     """Loss `focal`: per-sample y * l1(q) + (1 - y) * l0(q), optionally weighted, then reduced.
 
@@ -112,6 +117,10 @@ def focal(pred, target, weight=None, reduction="mean"):
     target: labels y in {0, 1} (values in between give the expected loss under P(y = 1) = target);
     weight: optional per-sample weights, multiplied in before the reduction;
     reduction: "mean" (mean over samples of the weighted losses), "sum" or "none" (per-sample values).
+
+    The clamp is flat outside the EPS bounds: where pred lies outside them (q = 0 or 1 exactly included)
+    the gradient is exactly 0, so a prediction stuck at 0 or 1 gets no signal. Feed probabilities from a
+    sigmoid (strictly inside (0, 1)), or generate with --input score.
     """
     q = jnp.clip(jnp.asarray(pred), EPS, 1.0 - EPS)
     y = jnp.asarray(target, dtype=q.dtype)
@@ -139,7 +148,7 @@ def focal_recover_posterior(q):
 # input: pred holds probabilities q in [0, 1]
 # link: probabilities q map to scores by the implied link v = logit(q) / 2 (Reid & Williamson 2010, Cor. 14)
 # partial losses: y = 1: exp(-v); y = 0: exp(v)
-# clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (chosen for float32), because a singularity remains at q = 0 and q = 1
+# clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (float32 and float64 alike: 1 - EPS < 1 in both), because a singularity remains at q = 0 and q = 1; the gradient is 0 outside the bounds
 def boosted_exp(pred, target, weight=None, reduction="mean"):
     """Loss `boosted_exp`: per-sample y * l1(q) + (1 - y) * l0(q), optionally weighted, then reduced.
 
@@ -147,6 +156,10 @@ def boosted_exp(pred, target, weight=None, reduction="mean"):
     target: labels y in {0, 1} (values in between give the expected loss under P(y = 1) = target);
     weight: optional per-sample weights, multiplied in before the reduction;
     reduction: "mean" (mean over samples of the weighted losses), "sum" or "none" (per-sample values).
+
+    The clamp is flat outside the EPS bounds: where pred lies outside them (q = 0 or 1 exactly included)
+    the gradient is exactly 0, so a prediction stuck at 0 or 1 gets no signal. Feed probabilities from a
+    sigmoid (strictly inside (0, 1)), or generate with --input score.
     """
     q = jnp.clip(jnp.asarray(pred), EPS, 1.0 - EPS)
     y = jnp.asarray(target, dtype=q.dtype)

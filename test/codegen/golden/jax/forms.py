@@ -5,8 +5,9 @@
 import jax
 import jax.numpy as jnp
 
-# Clamping bound for probabilities where a singularity remains: 1e-7 suits float32 (machine epsilon 1.19e-7),
-# so 1 - EPS is still below 1 and the logarithms stay finite.
+# Clamping bound for probabilities where a singularity remains, for float32 and float64 input alike: 1e-7 is
+# above float32's machine epsilon 1.19e-7 / 2, so 1 - EPS rounds below 1 in float32 (0.99999988) and in float64,
+# and the logarithms stay finite in both dtypes (float64 alone could go down to about 1e-15).
 EPS = 1e-7
 
 
@@ -56,7 +57,7 @@ def half_brier(pred, target, weight=None, reduction="mean"):
 # decision threshold: 0.5
 # input: pred holds probabilities q in [0, 1]
 # partial losses: y = 1: -(q * ln(q)) - (1 - q) * ln(1 - q) + (1 - q) * (-(ln(q) + q * (1 / q)) - (-ln(1 - q) + (1 - q) * (-1 / (1 - q)))); y = 0: -(q * ln(q)) - (1 - q) * ln(1 - q) - q * (-(ln(q) + q * (1 / q)) - (-ln(1 - q) + (1 - q) * (-1 / (1 - q))))
-# clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (chosen for float32), because a singularity remains at q = 0 and q = 1
+# clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (float32 and float64 alike: 1 - EPS < 1 in both), because a singularity remains at q = 0 and q = 1; the gradient is 0 outside the bounds
 def entropy(pred, target, weight=None, reduction="mean"):
     """Loss `entropy`: per-sample y * l1(q) + (1 - y) * l0(q), optionally weighted, then reduced.
 
@@ -64,6 +65,10 @@ def entropy(pred, target, weight=None, reduction="mean"):
     target: labels y in {0, 1} (values in between give the expected loss under P(y = 1) = target);
     weight: optional per-sample weights, multiplied in before the reduction;
     reduction: "mean" (mean over samples of the weighted losses), "sum" or "none" (per-sample values).
+
+    The clamp is flat outside the EPS bounds: where pred lies outside them (q = 0 or 1 exactly included)
+    the gradient is exactly 0, so a prediction stuck at 0 or 1 gets no signal. Feed probabilities from a
+    sigmoid (strictly inside (0, 1)), or generate with --input score.
     """
     q = jnp.clip(jnp.asarray(pred), EPS, 1.0 - EPS)
     y = jnp.asarray(target, dtype=q.dtype)
@@ -80,7 +85,7 @@ def entropy(pred, target, weight=None, reduction="mean"):
 # decision threshold: 0.5
 # input: pred holds probabilities q in [0, 1]
 # partial losses: y = 1: -ln(q); y = 0: -ln(1 - q)
-# clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (chosen for float32), because a singularity remains at q = 0 and q = 1
+# clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (float32 and float64 alike: 1 - EPS < 1 in both), because a singularity remains at q = 0 and q = 1; the gradient is 0 outside the bounds
 def log_by_weight(pred, target, weight=None, reduction="mean"):
     """Loss `log_by_weight`: per-sample y * l1(q) + (1 - y) * l0(q), optionally weighted, then reduced.
 
@@ -88,6 +93,10 @@ def log_by_weight(pred, target, weight=None, reduction="mean"):
     target: labels y in {0, 1} (values in between give the expected loss under P(y = 1) = target);
     weight: optional per-sample weights, multiplied in before the reduction;
     reduction: "mean" (mean over samples of the weighted losses), "sum" or "none" (per-sample values).
+
+    The clamp is flat outside the EPS bounds: where pred lies outside them (q = 0 or 1 exactly included)
+    the gradient is exactly 0, so a prediction stuck at 0 or 1 gets no signal. Feed probabilities from a
+    sigmoid (strictly inside (0, 1)), or generate with --input score.
     """
     q = jnp.clip(jnp.asarray(pred), EPS, 1.0 - EPS)
     y = jnp.asarray(target, dtype=q.dtype)
@@ -105,7 +114,7 @@ def log_by_weight(pred, target, weight=None, reduction="mean"):
 # input: pred holds probabilities q in [0, 1]
 # link: probabilities q map to scores by the implied link v = logit(q) (Reid & Williamson 2010, Cor. 14)
 # partial losses: y = 1: softplus(-v); y = 0: softplus(v)
-# clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (chosen for float32), because a singularity remains at q = 0 and q = 1
+# clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (float32 and float64 alike: 1 - EPS < 1 in both), because a singularity remains at q = 0 and q = 1; the gradient is 0 outside the bounds
 def logistic(pred, target, weight=None, reduction="mean"):
     """Loss `logistic`: per-sample y * l1(q) + (1 - y) * l0(q), optionally weighted, then reduced.
 
@@ -113,6 +122,10 @@ def logistic(pred, target, weight=None, reduction="mean"):
     target: labels y in {0, 1} (values in between give the expected loss under P(y = 1) = target);
     weight: optional per-sample weights, multiplied in before the reduction;
     reduction: "mean" (mean over samples of the weighted losses), "sum" or "none" (per-sample values).
+
+    The clamp is flat outside the EPS bounds: where pred lies outside them (q = 0 or 1 exactly included)
+    the gradient is exactly 0, so a prediction stuck at 0 or 1 gets no signal. Feed probabilities from a
+    sigmoid (strictly inside (0, 1)), or generate with --input score.
     """
     q = jnp.clip(jnp.asarray(pred), EPS, 1.0 - EPS)
     y = jnp.asarray(target, dtype=q.dtype)
@@ -130,7 +143,7 @@ def logistic(pred, target, weight=None, reduction="mean"):
 # input: pred holds probabilities q in [0, 1]
 # link: probabilities q map to scores by the declared link v = logit(q)
 # partial losses: y = 1: softplus(-v); y = 0: softplus(v)
-# clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (chosen for float32), because a singularity remains at q = 0 and q = 1
+# clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (float32 and float64 alike: 1 - EPS < 1 in both), because a singularity remains at q = 0 and q = 1; the gradient is 0 outside the bounds
 def logistic_scores(pred, target, weight=None, reduction="mean"):
     """Loss `logistic_scores`: per-sample y * l1(q) + (1 - y) * l0(q), optionally weighted, then reduced.
 
@@ -138,6 +151,10 @@ def logistic_scores(pred, target, weight=None, reduction="mean"):
     target: labels y in {0, 1} (values in between give the expected loss under P(y = 1) = target);
     weight: optional per-sample weights, multiplied in before the reduction;
     reduction: "mean" (mean over samples of the weighted losses), "sum" or "none" (per-sample values).
+
+    The clamp is flat outside the EPS bounds: where pred lies outside them (q = 0 or 1 exactly included)
+    the gradient is exactly 0, so a prediction stuck at 0 or 1 gets no signal. Feed probabilities from a
+    sigmoid (strictly inside (0, 1)), or generate with --input score.
     """
     q = jnp.clip(jnp.asarray(pred), EPS, 1.0 - EPS)
     y = jnp.asarray(target, dtype=q.dtype)
@@ -178,7 +195,7 @@ def spherical(pred, target, weight=None, reduction="mean"):
 # decision threshold: 0.5
 # input: pred holds probabilities q in [0, 1]
 # partial losses: y = 1: sqrt((1 - q) / q); y = 0: sqrt(q / (1 - q))
-# clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (chosen for float32), because a singularity remains at q = 0 and q = 1
+# clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (float32 and float64 alike: 1 - EPS < 1 in both), because a singularity remains at q = 0 and q = 1; the gradient is 0 outside the bounds
 def boosting_canonical(pred, target, weight=None, reduction="mean"):
     """Loss `boosting_canonical`: per-sample y * l1(q) + (1 - y) * l0(q), optionally weighted, then reduced.
 
@@ -186,6 +203,10 @@ def boosting_canonical(pred, target, weight=None, reduction="mean"):
     target: labels y in {0, 1} (values in between give the expected loss under P(y = 1) = target);
     weight: optional per-sample weights, multiplied in before the reduction;
     reduction: "mean" (mean over samples of the weighted losses), "sum" or "none" (per-sample values).
+
+    The clamp is flat outside the EPS bounds: where pred lies outside them (q = 0 or 1 exactly included)
+    the gradient is exactly 0, so a prediction stuck at 0 or 1 gets no signal. Feed probabilities from a
+    sigmoid (strictly inside (0, 1)), or generate with --input score.
     """
     q = jnp.clip(jnp.asarray(pred), EPS, 1.0 - EPS)
     y = jnp.asarray(target, dtype=q.dtype)

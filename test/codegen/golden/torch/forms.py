@@ -7,8 +7,9 @@ import typing
 
 import torch
 
-# Clamping bound for probabilities where a singularity remains: 1e-7 suits float32 (machine epsilon 1.19e-7),
-# so 1 - EPS is still below 1 and the logarithms stay finite.
+# Clamping bound for probabilities where a singularity remains, for float32 and float64 input alike: 1e-7 is
+# above float32's machine epsilon 1.19e-7 / 2, so 1 - EPS rounds below 1 in float32 (0.99999988) and in float64,
+# and the logarithms stay finite in both dtypes (float64 alone could go down to about 1e-15).
 EPS = 1e-7
 
 
@@ -58,7 +59,7 @@ def half_brier(pred, target, weight: typing.Optional[torch.Tensor] = None, reduc
 # decision threshold: 0.5
 # input: pred holds probabilities q in [0, 1]
 # partial losses: y = 1: -(q * ln(q)) - (1 - q) * ln(1 - q) + (1 - q) * (-(ln(q) + q * (1 / q)) - (-ln(1 - q) + (1 - q) * (-1 / (1 - q)))); y = 0: -(q * ln(q)) - (1 - q) * ln(1 - q) - q * (-(ln(q) + q * (1 / q)) - (-ln(1 - q) + (1 - q) * (-1 / (1 - q))))
-# clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (chosen for float32), because a singularity remains at q = 0 and q = 1
+# clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (float32 and float64 alike: 1 - EPS < 1 in both), because a singularity remains at q = 0 and q = 1; the gradient is 0 outside the bounds
 def entropy(pred, target, weight: typing.Optional[torch.Tensor] = None, reduction: str = "mean"):
     """Loss `entropy`: per-sample y * l1(q) + (1 - y) * l0(q), optionally weighted, then reduced.
 
@@ -66,6 +67,10 @@ def entropy(pred, target, weight: typing.Optional[torch.Tensor] = None, reductio
     target: labels y in {0, 1} (values in between give the expected loss under P(y = 1) = target);
     weight: optional per-sample weights, multiplied in before the reduction;
     reduction: "mean" (mean over samples of the weighted losses), "sum" or "none" (per-sample values).
+
+    The clamp is flat outside the EPS bounds: where pred lies outside them (q = 0 or 1 exactly included)
+    the gradient is exactly 0, so a prediction stuck at 0 or 1 gets no signal. Feed probabilities from a
+    sigmoid (strictly inside (0, 1)), or generate with --input score.
     """
     q = torch.clamp(torch.as_tensor(pred), min=1e-7, max=1.0 - 1e-7)
     y = torch.as_tensor(target, dtype=q.dtype, device=q.device)
@@ -82,7 +87,7 @@ def entropy(pred, target, weight: typing.Optional[torch.Tensor] = None, reductio
 # decision threshold: 0.5
 # input: pred holds probabilities q in [0, 1]
 # partial losses: y = 1: -ln(q); y = 0: -ln(1 - q)
-# clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (chosen for float32), because a singularity remains at q = 0 and q = 1
+# clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (float32 and float64 alike: 1 - EPS < 1 in both), because a singularity remains at q = 0 and q = 1; the gradient is 0 outside the bounds
 def log_by_weight(pred, target, weight: typing.Optional[torch.Tensor] = None, reduction: str = "mean"):
     """Loss `log_by_weight`: per-sample y * l1(q) + (1 - y) * l0(q), optionally weighted, then reduced.
 
@@ -90,6 +95,10 @@ def log_by_weight(pred, target, weight: typing.Optional[torch.Tensor] = None, re
     target: labels y in {0, 1} (values in between give the expected loss under P(y = 1) = target);
     weight: optional per-sample weights, multiplied in before the reduction;
     reduction: "mean" (mean over samples of the weighted losses), "sum" or "none" (per-sample values).
+
+    The clamp is flat outside the EPS bounds: where pred lies outside them (q = 0 or 1 exactly included)
+    the gradient is exactly 0, so a prediction stuck at 0 or 1 gets no signal. Feed probabilities from a
+    sigmoid (strictly inside (0, 1)), or generate with --input score.
     """
     q = torch.clamp(torch.as_tensor(pred), min=1e-7, max=1.0 - 1e-7)
     y = torch.as_tensor(target, dtype=q.dtype, device=q.device)
@@ -107,7 +116,7 @@ def log_by_weight(pred, target, weight: typing.Optional[torch.Tensor] = None, re
 # input: pred holds probabilities q in [0, 1]
 # link: probabilities q map to scores by the implied link v = logit(q) (Reid & Williamson 2010, Cor. 14)
 # partial losses: y = 1: softplus(-v); y = 0: softplus(v)
-# clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (chosen for float32), because a singularity remains at q = 0 and q = 1
+# clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (float32 and float64 alike: 1 - EPS < 1 in both), because a singularity remains at q = 0 and q = 1; the gradient is 0 outside the bounds
 def logistic(pred, target, weight: typing.Optional[torch.Tensor] = None, reduction: str = "mean"):
     """Loss `logistic`: per-sample y * l1(q) + (1 - y) * l0(q), optionally weighted, then reduced.
 
@@ -115,6 +124,10 @@ def logistic(pred, target, weight: typing.Optional[torch.Tensor] = None, reducti
     target: labels y in {0, 1} (values in between give the expected loss under P(y = 1) = target);
     weight: optional per-sample weights, multiplied in before the reduction;
     reduction: "mean" (mean over samples of the weighted losses), "sum" or "none" (per-sample values).
+
+    The clamp is flat outside the EPS bounds: where pred lies outside them (q = 0 or 1 exactly included)
+    the gradient is exactly 0, so a prediction stuck at 0 or 1 gets no signal. Feed probabilities from a
+    sigmoid (strictly inside (0, 1)), or generate with --input score.
     """
     q = torch.clamp(torch.as_tensor(pred), min=1e-7, max=1.0 - 1e-7)
     y = torch.as_tensor(target, dtype=q.dtype, device=q.device)
@@ -132,7 +145,7 @@ def logistic(pred, target, weight: typing.Optional[torch.Tensor] = None, reducti
 # input: pred holds probabilities q in [0, 1]
 # link: probabilities q map to scores by the declared link v = logit(q)
 # partial losses: y = 1: softplus(-v); y = 0: softplus(v)
-# clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (chosen for float32), because a singularity remains at q = 0 and q = 1
+# clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (float32 and float64 alike: 1 - EPS < 1 in both), because a singularity remains at q = 0 and q = 1; the gradient is 0 outside the bounds
 def logistic_scores(pred, target, weight: typing.Optional[torch.Tensor] = None, reduction: str = "mean"):
     """Loss `logistic_scores`: per-sample y * l1(q) + (1 - y) * l0(q), optionally weighted, then reduced.
 
@@ -140,6 +153,10 @@ def logistic_scores(pred, target, weight: typing.Optional[torch.Tensor] = None, 
     target: labels y in {0, 1} (values in between give the expected loss under P(y = 1) = target);
     weight: optional per-sample weights, multiplied in before the reduction;
     reduction: "mean" (mean over samples of the weighted losses), "sum" or "none" (per-sample values).
+
+    The clamp is flat outside the EPS bounds: where pred lies outside them (q = 0 or 1 exactly included)
+    the gradient is exactly 0, so a prediction stuck at 0 or 1 gets no signal. Feed probabilities from a
+    sigmoid (strictly inside (0, 1)), or generate with --input score.
     """
     q = torch.clamp(torch.as_tensor(pred), min=1e-7, max=1.0 - 1e-7)
     y = torch.as_tensor(target, dtype=q.dtype, device=q.device)
@@ -180,7 +197,7 @@ def spherical(pred, target, weight: typing.Optional[torch.Tensor] = None, reduct
 # decision threshold: 0.5
 # input: pred holds probabilities q in [0, 1]
 # partial losses: y = 1: sqrt((1 - q) / q); y = 0: sqrt(q / (1 - q))
-# clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (chosen for float32), because a singularity remains at q = 0 and q = 1
+# clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (float32 and float64 alike: 1 - EPS < 1 in both), because a singularity remains at q = 0 and q = 1; the gradient is 0 outside the bounds
 def boosting_canonical(pred, target, weight: typing.Optional[torch.Tensor] = None, reduction: str = "mean"):
     """Loss `boosting_canonical`: per-sample y * l1(q) + (1 - y) * l0(q), optionally weighted, then reduced.
 
@@ -188,6 +205,10 @@ def boosting_canonical(pred, target, weight: typing.Optional[torch.Tensor] = Non
     target: labels y in {0, 1} (values in between give the expected loss under P(y = 1) = target);
     weight: optional per-sample weights, multiplied in before the reduction;
     reduction: "mean" (mean over samples of the weighted losses), "sum" or "none" (per-sample values).
+
+    The clamp is flat outside the EPS bounds: where pred lies outside them (q = 0 or 1 exactly included)
+    the gradient is exactly 0, so a prediction stuck at 0 or 1 gets no signal. Feed probabilities from a
+    sigmoid (strictly inside (0, 1)), or generate with --input score.
     """
     q = torch.clamp(torch.as_tensor(pred), min=1e-7, max=1.0 - 1e-7)
     y = torch.as_tensor(target, dtype=q.dtype, device=q.device)

@@ -44,7 +44,7 @@ function scaleGrad(grad: Float64Array, options: LossOptions): Float64Array {
   return grad;
 }
 
-/** Clamping bound for probabilities where a singularity remains: 1e-7 suits float32 (machine epsilon 1.19e-7). */
+/** Clamping bound for probabilities where a singularity remains (numbers are float64 here; 1e-7 matches the Python targets, where it also suits float32). */
 const EPS = 1e-7;
 
 // loss `log_loss` from flood-desk.loss (form: partial losses), generated as logLoss
@@ -56,7 +56,7 @@ const EPS = 1e-7;
 // decision threshold: 0.2
 // input: pred holds probabilities q in [0, 1]
 // partial losses: y = 1: -ln(q); y = 0: -ln(1 - q)
-// clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (chosen for float32), because a singularity remains at q = 0 and q = 1
+// clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (float32 and float64 alike: 1 - EPS < 1 in both), because a singularity remains at q = 0 and q = 1; the gradient is 0 outside the bounds
 /** Loss `log_loss`: per-sample y * l1(q) + (1 - y) * l0(q); pred holds probabilities, target labels in {0, 1}. */
 export function logLoss(pred: ArrayLike<number>, target: ArrayLike<number>, options: LossOptions & { reduction: "none" }): Float64Array;
 export function logLoss(pred: ArrayLike<number>, target: ArrayLike<number>, options?: LossOptions & { reduction?: "mean" | "sum" }): number;
@@ -170,7 +170,7 @@ export function alertFocusGrad(pred: ArrayLike<number>, target: ArrayLike<number
 // decision threshold: 0.2
 // input: pred holds probabilities q in [0, 1]
 // partial losses: y = 1: -((1 - q)^2 * ln(q)); y = 0: -(q^2 * ln(1 - q))
-// clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (chosen for float32), because a singularity remains at q = 0 and q = 1
+// clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (float32 and float64 alike: 1 - EPS < 1 in both), because a singularity remains at q = 0 and q = 1; the gradient is 0 outside the bounds
 /** Loss `focal`: per-sample y * l1(q) + (1 - y) * l0(q); pred holds probabilities, target labels in {0, 1}. */
 export function focal(pred: ArrayLike<number>, target: ArrayLike<number>, options: LossOptions & { reduction: "none" }): Float64Array;
 export function focal(pred: ArrayLike<number>, target: ArrayLike<number>, options?: LossOptions & { reduction?: "mean" | "sum" }): number;
@@ -215,7 +215,7 @@ export function focalRecoverPosterior(pred: number): number {
 // input: pred holds probabilities q in [0, 1]
 // link: probabilities q map to scores by the implied link v = logit(q) / 2 (Reid & Williamson 2010, Cor. 14)
 // partial losses: y = 1: exp(-v); y = 0: exp(v)
-// clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (chosen for float32), because a singularity remains at q = 0 and q = 1
+// clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (float32 and float64 alike: 1 - EPS < 1 in both), because a singularity remains at q = 0 and q = 1; the gradient is 0 outside the bounds
 /** Loss `boosted_exp`: per-sample y * l1(q) + (1 - y) * l0(q); pred holds probabilities, target labels in {0, 1}. */
 export function boostedExp(pred: ArrayLike<number>, target: ArrayLike<number>, options: LossOptions & { reduction: "none" }): Float64Array;
 export function boostedExp(pred: ArrayLike<number>, target: ArrayLike<number>, options?: LossOptions & { reduction?: "mean" | "sum" }): number;

@@ -44,7 +44,7 @@ function scaleGrad(grad: Float64Array, options: LossOptions): Float64Array {
   return grad;
 }
 
-/** Clamping bound for probabilities where a singularity remains: 1e-7 suits float32 (machine epsilon 1.19e-7). */
+/** Clamping bound for probabilities where a singularity remains (numbers are float64 here; 1e-7 matches the Python targets, where it also suits float32). */
 const EPS = 1e-7;
 
 // loss `half_brier` from forms.loss (form: partial losses), generated as halfBrier
@@ -94,7 +94,7 @@ export function halfBrierGrad(pred: ArrayLike<number>, target: ArrayLike<number>
 // decision threshold: 0.5
 // input: pred holds probabilities q in [0, 1]
 // partial losses: y = 1: -(q * ln(q)) - (1 - q) * ln(1 - q) + (1 - q) * (-(ln(q) + q * (1 / q)) - (-ln(1 - q) + (1 - q) * (-1 / (1 - q)))); y = 0: -(q * ln(q)) - (1 - q) * ln(1 - q) - q * (-(ln(q) + q * (1 / q)) - (-ln(1 - q) + (1 - q) * (-1 / (1 - q))))
-// clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (chosen for float32), because a singularity remains at q = 0 and q = 1
+// clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (float32 and float64 alike: 1 - EPS < 1 in both), because a singularity remains at q = 0 and q = 1; the gradient is 0 outside the bounds
 /** Loss `entropy`: per-sample y * l1(q) + (1 - y) * l0(q); pred holds probabilities, target labels in {0, 1}. */
 export function entropy(pred: ArrayLike<number>, target: ArrayLike<number>, options: LossOptions & { reduction: "none" }): Float64Array;
 export function entropy(pred: ArrayLike<number>, target: ArrayLike<number>, options?: LossOptions & { reduction?: "mean" | "sum" }): number;
@@ -132,7 +132,7 @@ export function entropyGrad(pred: ArrayLike<number>, target: ArrayLike<number>, 
 // decision threshold: 0.5
 // input: pred holds probabilities q in [0, 1]
 // partial losses: y = 1: -ln(q); y = 0: -ln(1 - q)
-// clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (chosen for float32), because a singularity remains at q = 0 and q = 1
+// clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (float32 and float64 alike: 1 - EPS < 1 in both), because a singularity remains at q = 0 and q = 1; the gradient is 0 outside the bounds
 /** Loss `log_by_weight`: per-sample y * l1(q) + (1 - y) * l0(q); pred holds probabilities, target labels in {0, 1}. */
 export function logByWeight(pred: ArrayLike<number>, target: ArrayLike<number>, options: LossOptions & { reduction: "none" }): Float64Array;
 export function logByWeight(pred: ArrayLike<number>, target: ArrayLike<number>, options?: LossOptions & { reduction?: "mean" | "sum" }): number;
@@ -171,7 +171,7 @@ export function logByWeightGrad(pred: ArrayLike<number>, target: ArrayLike<numbe
 // input: pred holds probabilities q in [0, 1]
 // link: probabilities q map to scores by the implied link v = logit(q) (Reid & Williamson 2010, Cor. 14)
 // partial losses: y = 1: softplus(-v); y = 0: softplus(v)
-// clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (chosen for float32), because a singularity remains at q = 0 and q = 1
+// clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (float32 and float64 alike: 1 - EPS < 1 in both), because a singularity remains at q = 0 and q = 1; the gradient is 0 outside the bounds
 /** Loss `logistic`: per-sample y * l1(q) + (1 - y) * l0(q); pred holds probabilities, target labels in {0, 1}. */
 export function logistic(pred: ArrayLike<number>, target: ArrayLike<number>, options: LossOptions & { reduction: "none" }): Float64Array;
 export function logistic(pred: ArrayLike<number>, target: ArrayLike<number>, options?: LossOptions & { reduction?: "mean" | "sum" }): number;
@@ -210,7 +210,7 @@ export function logisticGrad(pred: ArrayLike<number>, target: ArrayLike<number>,
 // input: pred holds probabilities q in [0, 1]
 // link: probabilities q map to scores by the declared link v = logit(q)
 // partial losses: y = 1: softplus(-v); y = 0: softplus(v)
-// clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (chosen for float32), because a singularity remains at q = 0 and q = 1
+// clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (float32 and float64 alike: 1 - EPS < 1 in both), because a singularity remains at q = 0 and q = 1; the gradient is 0 outside the bounds
 /** Loss `logistic_scores`: per-sample y * l1(q) + (1 - y) * l0(q); pred holds probabilities, target labels in {0, 1}. */
 export function logisticScores(pred: ArrayLike<number>, target: ArrayLike<number>, options: LossOptions & { reduction: "none" }): Float64Array;
 export function logisticScores(pred: ArrayLike<number>, target: ArrayLike<number>, options?: LossOptions & { reduction?: "mean" | "sum" }): number;
@@ -286,7 +286,7 @@ export function sphericalGrad(pred: ArrayLike<number>, target: ArrayLike<number>
 // decision threshold: 0.5
 // input: pred holds probabilities q in [0, 1]
 // partial losses: y = 1: sqrt((1 - q) / q); y = 0: sqrt(q / (1 - q))
-// clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (chosen for float32), because a singularity remains at q = 0 and q = 1
+// clamping: q clamped to [EPS, 1 - EPS], EPS = 1e-7 (float32 and float64 alike: 1 - EPS < 1 in both), because a singularity remains at q = 0 and q = 1; the gradient is 0 outside the bounds
 /** Loss `boosting_canonical`: per-sample y * l1(q) + (1 - y) * l0(q); pred holds probabilities, target labels in {0, 1}. */
 export function boostingCanonical(pred: ArrayLike<number>, target: ArrayLike<number>, options: LossOptions & { reduction: "none" }): Float64Array;
 export function boostingCanonical(pred: ArrayLike<number>, target: ArrayLike<number>, options?: LossOptions & { reduction?: "mean" | "sum" }): number;
