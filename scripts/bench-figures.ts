@@ -132,7 +132,10 @@ export function compiledRatioFigure(): FigureRow {
 
 /** Run in a fresh child process: analyse a 200-loss document once, cold, and report wall time and RSS growth. */
 function coldChild(): void {
-  const text = makeBenchDocument(200);
+  // The LSP benchmark's document at 200 losses: every loss declares a parameter range, so the range sweep
+  // runs for each; with PROPRIETY_BENCH_NO_RANGES=1 the ranges are dropped (the defaults only).
+  const withRanges = makeBenchDocument(200);
+  const text = process.env["PROPRIETY_BENCH_NO_RANGES"] === "1" ? withRanges.replace(/ in \[[^\]]*\]/g, "") : withRanges;
   const rss0 = process.memoryUsage().rss;
   const cpu0 = process.cpuUsage();
   const t0 = performance.now();
@@ -147,23 +150,32 @@ function coldChild(): void {
 const COLD_FLAG = "PROPRIETY_BENCH_COLD200";
 if (process.env[COLD_FLAG] === "1" && typeof process.send === "function") coldChild();
 
-export async function cold200Figures(): Promise<FigureRow[]> {
+type ColdResult = { ms: number; cpuMs: number; rssMB: number; losses: number; analysed: number };
+
+function coldRun(noRanges: boolean): Promise<ColdResult> {
   // This module is bundled to one CommonJS file by scripts/bench.mjs; the child runs the same file.
   const self = typeof __filename === "string" ? __filename : "";
   if (!self.endsWith(".cjs")) throw new Error("cold200Figures runs from the bundle built by scripts/bench.mjs");
-  const result = await new Promise<{ ms: number; cpuMs: number; rssMB: number; losses: number; analysed: number }>((resolve, reject) => {
-    const child = fork(self, [], { env: { ...process.env, [COLD_FLAG]: "1" }, stdio: ["ignore", "ignore", "inherit", "ipc"] });
+  return new Promise<ColdResult>((resolve, reject) => {
+    const env = { ...process.env, [COLD_FLAG]: "1", PROPRIETY_BENCH_NO_RANGES: noRanges ? "1" : "0" };
+    const child = fork(self, [], { env, stdio: ["ignore", "ignore", "inherit", "ipc"] });
     child.once("message", (m) => {
-      resolve(m as { ms: number; cpuMs: number; rssMB: number; losses: number; analysed: number });
+      resolve(m as ColdResult);
       child.kill();
     });
     child.once("error", reject);
     child.once("exit", (code) => reject(new Error(`cold child exited with ${code}`)));
   });
+}
+
+export async function cold200Figures(): Promise<FigureRow[]> {
+  const result = await coldRun(false);
+  const plain = await coldRun(true);
   return [
     { name: `${result.losses} losses (${result.analysed} analysed) cold through the pipeline, fresh process`, key: "cold200LossesMs", value: result.ms, unit: "ms", target: "≤ 1000 ms" },
     { name: "CPU time of that analysis (user + system; less sensitive to other load than wall time)", key: "cold200LossesCpuMs", value: result.cpuMs, unit: "ms", target: "" },
     { name: `RSS growth for those ${result.losses} losses`, key: "rss200LossesMB", value: result.rssMB, unit: "MB", target: "≤ 150 MB" },
+    { name: `the same ${plain.losses} losses with their ranges dropped (defaults only), fresh process`, key: "cold200LossesNoRangesMs", value: plain.ms, unit: "ms", target: "" },
   ];
 }
 
