@@ -11,7 +11,7 @@ import * as path from "node:path";
 import { describe, expect, it } from "vitest";
 import { generate } from "../../server/src/codegen/index.js";
 import { analyseDocument } from "../../server/src/pipeline/pipeline.js";
-import { PYTHON, pythonHas, tempDir } from "./support.js";
+import { loadTs, PYTHON, pythonHas, tempDir } from "./support.js";
 
 const HAS_NUMPY = pythonHas("numpy");
 
@@ -104,6 +104,28 @@ describe("NumPy special functions", () => {
       // −log Φ(v) = v²/2 + ln(−v) + ln√(2π) − ln(1 − 1/v² + 3/v⁴) (A&S 26.2.12); d/dv = −(−v − 1/v + 2/v³ …).
       expect(loss[i]!).toBeCloseTo(v * v / 2 + Math.log(-v) + 0.9189385332046728 - Math.log1p(-1 / v ** 2 + 3 / v ** 4), 6);
       expect(Math.abs(grad[i]! - (v + 1 / v - 2 / v ** 3)) / Math.abs(v)).toBeLessThan(1e-6);
+    });
+  });
+});
+
+describe("TypeScript log-CDF of the probit link", () => {
+  const doc = analyseDocument(TEXT);
+
+  it("−log Φ(v) and its gradient stay finite and follow the normal tail where Φ underflows", async () => {
+    const r = generate(doc, { target: "ts", input: "score", loss: "probit_log" });
+    if (!r.ok) throw new Error(r.message);
+    expect(r.code).toMatch(/lognormcdf\(v\)/);
+    const mod = await loadTs(r.code);
+    const vs = [-1000, -40, -8];
+    const loss = mod.probitLog!(vs, [1, 1, 1], { reduction: "none" }) as Float64Array;
+    const grad = mod.probitLogGrad!(vs, [1, 1, 1], { reduction: "none" }) as Float64Array;
+    vs.forEach((v, i) => {
+      // −log Φ(v) = v²/2 + ln(−v) + ln√(2π) − ln(1 − 1/v² + 3/v⁴ − 15/v⁶ …) (Abramowitz & Stegun 1964, 26.2.12);
+      // at v = −8 the series' next term (105/v⁸ ≈ 6e-6) bounds the comparison.
+      const want = v * v / 2 + Math.log(-v) + 0.9189385332046728 - Math.log1p(-1 / v ** 2 + 3 / v ** 4 - 15 / v ** 6);
+      expect(Math.abs(loss[i]! - want) / want, `v = ${v}`).toBeLessThan(v < -10 ? 1e-12 : 1e-6);
+      // d/dv(−log Φ) = −φ(v)/Φ(v) ≈ v + 1/v − 2/v³ (the Mills ratio, same expansion).
+      expect(Math.abs(grad[i]! - (v + 1 / v - 2 / v ** 3)) / Math.abs(v), `v = ${v}`).toBeLessThan(v < -10 ? 1e-8 : 1e-4);
     });
   });
 });
