@@ -103,3 +103,19 @@ describe("report --out", () => {
     expect(fs.readdirSync(dir).filter((f) => f.endsWith(".tmp"))).toEqual([]);
   });
 });
+
+describe("gen --out", () => {
+  it("refuses a .loss name without --force and writes it with --force; never the input", async () => {
+    const input = path.join(dir, "specs", "brier.loss");
+    const out = path.join(dir, "generated.loss");
+    const refused = capture();
+    expect(await main(["gen", "--target", "ts", input, "--out", out], refused)).toBe(2);
+    expect(refused.err).toMatch(/ends in \.loss/);
+    expect(fs.existsSync(out)).toBe(false);
+    expect(await main(["gen", "--target", "ts", input, "--out", out, "--force"], capture())).toBe(0);
+    expect(fs.readFileSync(out, "utf8")).toMatch(/export function brier/);
+    const self = capture();
+    expect(await main(["gen", "--target", "ts", input, "--out", input, "--force"], self)).toBe(2);
+    expect(fs.readFileSync(input, "utf8")).toBe(BRIER);
+  });
+});

@@ -23,7 +23,7 @@ export { writeAtomically };
 export const GEN_HELP = `gen:
   propriety gen --target torch|jax|numpy|ts [--input prob|score] PATH... [--loss NAME]
                 [--out FILE | --out-dir DIR] [--check] [--allow-improper] [--set name=value]...
-                [--link canonical]
+                [--link canonical] [--force]
   One function per loss, signature (pred, target, weight=None, reduction="mean") in Python,
   (pred, target, options) in TypeScript; NumPy and TypeScript also get <name>_grad / <name>Grad.
   PATH is a .loss file or a directory (searched for .loss files); one module per file.
@@ -37,6 +37,7 @@ export const GEN_HELP = `gen:
   --set a=2      bake in a parameter value other than its default (repeatable); the header's figures
                  are re-analysed at the values baked in, and an improper value needs consent
   --link canonical  use the canonical link (psi' = w) for score input
+  --force        allow an output name ending in .loss (an input file is never overwritten)
   Losses that cannot be generated are listed on stderr with the reason (and in the module header).
 ${SETTINGS_HELP}  Exit status: 0 all generated (and up to date with --check); 1 a loss cannot be generated, or
   (--check) an output is missing or differs; 2 usage or I/O error.
@@ -78,6 +79,7 @@ export function runGen(args: string[], io: CliIo): number {
         "out-dir": { type: "string" },
         check: { type: "boolean" },
         "allow-improper": { type: "boolean" },
+        force: { type: "boolean" },
         set: { type: "string", multiple: true },
         link: { type: "string" },
         help: { type: "boolean", short: "h" },
@@ -155,7 +157,7 @@ export function runGen(args: string[], io: CliIo): number {
         if (before !== undefined) throw new GenUsageError(`${before} and ${file} would both be written to ${dest}; rename one of them`);
         taken.set(path.resolve(dest), file);
         try {
-          checkOutputPath(dest, files, io);
+          checkOutputPath(dest, files, io, values.force === true);
         } catch (err) {
           if (err instanceof UsageError) {
             io.stderr(`propriety: cannot write ${dest}: ${err.message.replace(/^--out \S+ /, "it ")}\n`);
