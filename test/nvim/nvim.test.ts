@@ -1,21 +1,13 @@
 // A second, third-party LSP client: headless Neovim 0.7 drives the bundled server over stdio
 // (script: test/nvim/nvim-lsp.lua). Skipped, with a message, when `nvim` is not installed.
-import { execFileSync, spawnSync } from "node:child_process";
+import { spawnSync } from "node:child_process";
 import { mkdtempSync, rmSync, writeFileSync } from "node:fs";
 import { tmpdir } from "node:os";
 import * as path from "node:path";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { createLanguageService } from "../../server/src/service/language-service.js";
 import { ensureServerBuilt, ROOT } from "../support/lsp-client.js";
-
-function hasNvim(): boolean {
-  try {
-    execFileSync("nvim", ["--version"], { stdio: "ignore" });
-    return true;
-  } catch {
-    return false;
-  }
-}
+import { hasNvim } from "./has-nvim.js";
 
 const NVIM = hasNvim();
 if (!NVIM) console.warn("SKIPPED test/nvim: `nvim` is not installed (apt-get install neovim; .ci/run installs it)");

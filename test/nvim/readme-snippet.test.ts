@@ -2,21 +2,14 @@
 // checkout), used as init.lua of a headless Neovim that opens a .loss file: the file type is detected, the
 // server attaches, diagnostics arrive, and a code lens runs the server's command and shows the loss
 // summary. Skipped, with a message, when `nvim` is not installed (.ci/run installs it).
-import { execFileSync, spawnSync } from "node:child_process";
+import { spawnSync } from "node:child_process";
 import { mkdtempSync, readFileSync, rmSync, writeFileSync } from "node:fs";
 import { tmpdir } from "node:os";
 import * as path from "node:path";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { ensureServerBuilt, ROOT } from "../support/lsp-client.js";
+import { hasNvim } from "./has-nvim.js";
 
-function hasNvim(): boolean {
-  try {
-    execFileSync("nvim", ["--version"], { stdio: "ignore" });
-    return true;
-  } catch {
-    return false;
-  }
-}
 const NVIM = hasNvim();
 if (!NVIM) console.warn("SKIPPED test/nvim/readme-snippet: `nvim` is not installed (apt-get install neovim; .ci/run installs it)");
 
